@@ -1,0 +1,112 @@
+import { rename, rm, stat } from 'node:fs/promises';
+import { readPngForPdf } from './png-chunks.ts';
+import { PdfEngineError } from './pdf-errors.ts';
+import { PdfStreamWriter, pdfNum, pdfTextString } from './pdf-writer.ts';
+
+export type PdfPage = { kind: 'card'; pngPath: string } | { kind: 'blank' };
+
+/**
+ * Writes the combined print PDF: one card per page, in the order given.
+ *
+ * `pagePt` is the whole page, trim + 2 x bleed, in points (1/72 in, ISO 32000-1 8.3.2); MediaBox =
+ * BleedBox = the page and TrimBox is inset by `bleedPt` (14.11.2). Each card PNG (8-bit RGB, with its
+ * bleed, as the conform step writes it) fills the page. Its IDAT data is copied into the PDF unchanged
+ * as a FlateDecode image with PNG predictors, so pixels are lossless and nothing is re-encoded.
+ *
+ * Memory stays bounded: objects stream to `outPath + '.tmp'` as they are made (one card image in
+ * memory at a time), and the file is renamed into place at the end. An image used on several pages
+ * (copies, a repeated back) is stored once. Output bytes depend only on the inputs (no dates, the file
+ * ID is a hash of the content), so a retry writes the same file.
+ */
+export async function writeCombinedPdf(opts: {
+  pages: PdfPage[];
+  pagePt: { w: number; h: number };
+  bleedPt: number;
+  title: string;
+  outPath: string;
+}): Promise<{ pages: number; bytes: number }> {
+  const { pages, pagePt, bleedPt, title, outPath } = opts;
+  if (pages.length === 0) throw new PdfEngineError('PDF_NO_PAGES', 'there are no cards to put in the PDF.');
+  if (!(pagePt.w > 0 && pagePt.h > 0 && bleedPt >= 0 && 2 * bleedPt < pagePt.w && 2 * bleedPt < pagePt.h)) {
+    throw new PdfEngineError(
+      'PDF_PAGE_GEOMETRY',
+      `a ${pagePt.w} x ${pagePt.h} pt page cannot hold a ${bleedPt} pt bleed on each side.`,
+    );
+  }
+
+  const tmpPath = `${outPath}.tmp`;
+  const writer = new PdfStreamWriter(tmpPath);
+  try {
+    await writer.start();
+    const catalogNum = writer.allocate();
+    const pagesNum = writer.allocate();
+    const infoNum = writer.allocate();
+
+    const mediaBox = `[0 0 ${pdfNum(pagePt.w)} ${pdfNum(pagePt.h)}]`;
+    const trimBox = `[${pdfNum(bleedPt)} ${pdfNum(bleedPt)} ${pdfNum(pagePt.w - bleedPt)} ${pdfNum(pagePt.h - bleedPt)}]`;
+    const boxes = `/MediaBox ${mediaBox} /BleedBox ${mediaBox} /TrimBox ${trimBox}`;
+
+    // Every card page draws its own /Card image over the whole page, so one content stream serves all.
+    let cardContentNum = 0;
+    let blankContentNum = 0;
+    // Only object numbers are kept per distinct image; the image bytes are released once written.
+    const imageNums = new Map<string, number>();
+    const pageNums: number[] = [];
+
+    for (const page of pages) {
+      const pageNum = writer.allocate();
+      if (page.kind === 'blank') {
+        if (!blankContentNum) {
+          blankContentNum = writer.allocate();
+          await writer.writeStream(blankContentNum, '', []);
+        }
+        await writer.writeObject(
+          pageNum,
+          `<< /Type /Page /Parent ${pagesNum} 0 R ${boxes} /Resources << >> /Contents ${blankContentNum} 0 R >>`,
+        );
+      } else {
+        let imageNum = imageNums.get(page.pngPath);
+        if (imageNum === undefined) {
+          const png = await readPngForPdf(page.pngPath);
+          imageNum = writer.allocate();
+          await writer.writeStream(
+            imageNum,
+            `/Type /XObject /Subtype /Image /Width ${png.width} /Height ${png.height} /ColorSpace /DeviceRGB ` +
+              `/BitsPerComponent 8 /Filter /FlateDecode ` +
+              `/DecodeParms << /Predictor 15 /Colors 3 /BitsPerComponent 8 /Columns ${png.width} >>`,
+            png.idat,
+          );
+          imageNums.set(page.pngPath, imageNum);
+        }
+        if (!cardContentNum) {
+          cardContentNum = writer.allocate();
+          // An image is drawn in a unit square; scale it to the full page, bleed included.
+          await writer.writeStream(cardContentNum, '', [
+            Buffer.from(`q ${pdfNum(pagePt.w)} 0 0 ${pdfNum(pagePt.h)} 0 0 cm /Card Do Q`, 'latin1'),
+          ]);
+        }
+        await writer.writeObject(
+          pageNum,
+          `<< /Type /Page /Parent ${pagesNum} 0 R ${boxes} ` +
+            `/Resources << /XObject << /Card ${imageNum} 0 R >> >> /Contents ${cardContentNum} 0 R >>`,
+        );
+      }
+      pageNums.push(pageNum);
+    }
+
+    await writer.writeObject(
+      pagesNum,
+      `<< /Type /Pages /Count ${pageNums.length} /Kids [${pageNums.map((n) => `${n} 0 R`).join(' ')}] >>`,
+    );
+    await writer.writeObject(catalogNum, `<< /Type /Catalog /Pages ${pagesNum} 0 R >>`);
+    await writer.writeObject(infoNum, `<< /Title ${pdfTextString(title)} /Producer (Bleedwright) >>`);
+    await writer.finish(catalogNum, infoNum);
+  } catch (err) {
+    await writer.abort();
+    await rm(tmpPath, { force: true });
+    throw err;
+  }
+  await rename(tmpPath, outPath);
+  const { size } = await stat(outPath);
+  return { pages: pages.length, bytes: size };
+}
