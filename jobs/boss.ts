@@ -1,0 +1,50 @@
+import PgBoss from 'pg-boss';
+import { JOBS, QUEUE_NAMES, checkRegistry, type JobDefinition, type QueueName } from './registry.ts';
+
+export interface Queue {
+  boss: PgBoss;
+  /** Sends a job and returns its id; throws when pg-boss drops it (missing queue or singleton). */
+  send(name: QueueName, data: object, options?: PgBoss.SendOptions): Promise<string>;
+  /** True when the queue tables answer. */
+  healthy(): Promise<boolean>;
+  stop(): Promise<void>;
+}
+
+/**
+ * Starts pg-boss on the app's database (schema `pgboss`), creates every queue in the registry and,
+ * unless `work` is false, attaches the handlers in this process.
+ */
+export async function startQueue(opts: {
+  databaseUrl: string;
+  work?: boolean;
+  jobs?: JobDefinition[];
+  names?: readonly string[];
+  onError?: (err: Error) => void;
+}): Promise<Queue> {
+  const jobs = opts.jobs ?? JOBS;
+  checkRegistry(opts.names ?? QUEUE_NAMES, jobs);
+  const boss = new PgBoss({ connectionString: opts.databaseUrl, schema: 'pgboss', max: 4 });
+  boss.on('error', opts.onError ?? ((err) => console.error('pg-boss error', err)));
+  await boss.start();
+  for (const job of jobs) {
+    const { name: _name, ...queueOptions } = job.options;
+    await boss.createQueue(job.name, { name: job.name, ...queueOptions });
+    if (opts.work !== false) await boss.work(job.name, job.handler);
+  }
+  return {
+    boss,
+    async send(name, data, options = {}) {
+      const id = await boss.send(name, data, options);
+      if (!id) throw new Error(`Queue "${name}" did not accept the job (missing queue or duplicate singleton)`);
+      return id;
+    },
+    async healthy() {
+      try {
+        return (await boss.getQueue('noop')) !== null;
+      } catch {
+        return false;
+      }
+    },
+    stop: () => boss.stop({ graceful: true, timeout: 5000 }),
+  };
+}

@@ -1,0 +1,34 @@
+import type { Knex } from 'knex';
+import type pg from 'pg';
+import type { Logger } from './logger.ts';
+import type { Mailer } from './mail.ts';
+import type { Mailbox } from './mail-catcher.ts';
+
+export interface AppConfig {
+  /** Where people reach the app; used in links sent by e-mail. */
+  publicUrl: string;
+  sessionSecret: string;
+  /** Mark the session cookie `secure` (set when served over https). */
+  cookieSecure: boolean;
+  /** Folder with the built client (`dist/`), or null to serve the API only. */
+  clientDir: string | null;
+  /** Trust X-Forwarded-* from one proxy hop (behind an https proxy). */
+  trustProxy: boolean;
+}
+
+/** Everything the app touches outside itself, so tests can start it against the test database. */
+export interface AppDeps {
+  db: Knex;
+  /** pg pool for the session store (connect-pg-simple wants a node-postgres pool). */
+  sessionPool: pg.Pool;
+  mailer: Mailer;
+  /** The demo mail catcher's captured mail; null when mail goes to a real server. */
+  mailbox: Mailbox | null;
+  queue: { healthy(): Promise<boolean> } | null;
+  logger: Logger;
+  clock: () => Date;
+  storageRoot: string;
+  config: AppConfig;
+}
+
+export type ServiceContext = Pick<AppDeps, 'db' | 'mailer' | 'clock' | 'config'>;

@@ -1,0 +1,78 @@
+import { timingSafeEqual } from 'node:crypto';
+import type { RequestHandler } from 'express';
+import type { Knex } from 'knex';
+import { z } from 'zod';
+import { AppError, forbidden, notFound, unauthenticated } from '../errors.ts';
+import { findMembership } from '../db/memberships.ts';
+import { findUserById, toPublicUser, type PublicUser } from '../db/users.ts';
+import type { Role } from '../roles.ts';
+
+declare module 'express-session' {
+  interface SessionData {
+    userId?: string;
+    csrfToken?: string;
+  }
+}
+
+declare global {
+  // eslint-disable-next-line @typescript-eslint/no-namespace
+  namespace Express {
+    interface Request {
+      user?: PublicUser;
+      member?: { workspaceId: string; userId: string; role: Role };
+    }
+  }
+}
+
+const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);
+
+/**
+ * Every write must carry the per-session token from GET /api/session in X-CSRF-Token. A page on
+ * another site can make the browser send our cookie, but cannot read the token.
+ */
+export const csrfProtection: RequestHandler = (req, _res, next) => {
+  if (SAFE_METHODS.has(req.method)) return next();
+  const expected = req.session?.csrfToken;
+  const sent = req.get('x-csrf-token');
+  if (!expected || !sent || sent.length !== expected.length || !timingSafeEqual(Buffer.from(sent), Buffer.from(expected))) {
+    return next(new AppError(403, 'CSRF', 'The page’s security token is missing or out of date: reload the page and try again.'));
+  }
+  next();
+};
+
+/** Loads the signed-in account into req.user; 401 when there is none. */
+export function requireUser(db: Knex): RequestHandler {
+  return async (req, _res, next) => {
+    const userId = req.session?.userId;
+    if (!userId) return next(unauthenticated());
+    const row = await findUserById(db, userId);
+    if (!row) return next(unauthenticated());
+    req.user = toPublicUser(row);
+    next();
+  };
+}
+
+const uuid = z.uuid();
+
+/**
+ * Needs a signed-in member of :workspaceId holding one of `roles`. A workspace the account is not a
+ * member of answers 404, as if it did not exist; a member with too small a role gets 403.
+ */
+export function requireMember(db: Knex, roles: readonly Role[]): RequestHandler {
+  const check = requireUser(db);
+  return (req, res, next) => {
+    check(req, res, async (err?: unknown) => {
+      if (err) return next(err);
+      const workspaceId = String(req.params.workspaceId ?? '');
+      if (!uuid.safeParse(workspaceId).success) return next(notFound('That workspace'));
+      const membership = await findMembership(db, workspaceId, req.user!.id);
+      if (!membership) return next(notFound('That workspace'));
+      if (!roles.includes(membership.role)) return next(forbidden());
+      req.member = { workspaceId, userId: req.user!.id, role: membership.role };
+      next();
+    });
+  };
+}
+
+export const ANY_ROLE: readonly Role[] = ['owner', 'maker', 'helper'];
+export const OWNER: readonly Role[] = ['owner'];
