@@ -1,0 +1,322 @@
+// Reading an art set from a folder or a zip. Zips are read through their central directory
+// (unzipper Open.file) and every name is validated here, never trusted: unzipper's own extract()
+// lets sibling prefixes through and reports symlinks as files (REFERENCES.md "unzipper"). Nothing is
+// ever extracted to disk; callers read one entry at a time into memory with its real size counted.
+import { lstat, readdir, readFile, stat } from 'node:fs/promises';
+import path from 'node:path';
+import { parse as parseCsv } from 'csv-parse/sync';
+import unzipper from 'unzipper';
+import { BleedwrightError } from '../../shared/errors.ts';
+import { MAX_COPIES } from '../../shared/recipe.ts';
+import type { ManifestRow } from '../../shared/deck.ts';
+
+export type ArchiveLimits = {
+  /** Largest inflated size of one entry, in bytes. */
+  maxEntryBytes: number;
+  /** Largest inflated size of all entries together. */
+  maxTotalBytes: number;
+  maxEntries: number;
+  /** Largest inflated : compressed ratio, checked for entries over ratioFloorBytes. */
+  maxRatio: number;
+  ratioFloorBytes: number;
+};
+
+export const DEFAULT_ARCHIVE_LIMITS: ArchiveLimits = {
+  maxEntryBytes: 200 * 1024 * 1024,
+  maxTotalBytes: 4 * 1024 * 1024 * 1024,
+  maxEntries: 5000,
+  maxRatio: 200,
+  ratioFloorBytes: 10 * 1024 * 1024,
+};
+
+export type EntryKind = 'image' | 'manifest' | 'back-candidate' | 'junk' | 'other';
+export type ArtEntry = { path: string; kind: EntryKind; size: number };
+export type SkippedEntry = { path: string; reason: string };
+
+export type ArtSet = {
+  source: string;
+  type: 'zip' | 'folder';
+  /** Top folder stripped from every path ("" when none). */
+  root: string;
+  /** Usable entries: images, back candidates and the manifest. */
+  entries: ArtEntry[];
+  /** Files left out (OS junk, non-images) and why. */
+  skipped: SkippedEntry[];
+  manifest: ManifestRow[] | null;
+  /** Internal readers; use readEntry(). */
+  readers: Map<string, () => Promise<Buffer>>;
+  limits: ArchiveLimits;
+  bytesRead: { total: number };
+};
+
+export const IMAGE_EXTENSIONS = ['.png', '.jpg', '.jpeg', '.webp', '.tif', '.tiff'];
+const ARCHIVE_EXTENSIONS = ['.zip', '.7z', '.rar', '.tar', '.gz', '.tgz', '.bz2', '.xz', '.zst', '.cbz', '.cbr', '.jar'];
+const BACK_NAME = /(^|[-_ .])(back|backs|reverse)([-_ .]|$)/i;
+
+/** OS junk that archivers and desktops add: skipped and listed in the report. */
+export function junkReason(p: string): string | null {
+  const parts = p.split('/');
+  const base = parts[parts.length - 1]!;
+  if (parts.includes('__MACOSX')) return 'macOS archive metadata (__MACOSX)';
+  if (base.startsWith('._')) return 'macOS resource fork (._ file)';
+  if (base === '.DS_Store') return 'macOS folder settings (.DS_Store)';
+  if (base.toLowerCase() === 'thumbs.db') return 'Windows thumbnail cache (Thumbs.db)';
+  if (base.toLowerCase() === 'desktop.ini') return 'Windows folder settings (desktop.ini)';
+  return null;
+}
+
+function classify(p: string): EntryKind {
+  if (junkReason(p)) return 'junk';
+  const base = p.split('/').pop()!;
+  const ext = path.posix.extname(base).toLowerCase();
+  if (base.toLowerCase() === 'manifest.csv') return 'manifest';
+  if (IMAGE_EXTENSIONS.includes(ext)) return BACK_NAME.test(base.slice(0, -ext.length)) ? 'back-candidate' : 'image';
+  return 'other';
+}
+
+/**
+ * Validates a zip entry name and returns it normalised, or throws ARCHIVE_PATH.
+ * Refuses NUL, backslashes, absolute paths, drive letters and anything that leaves the root.
+ */
+export function safeEntryName(raw: string): string {
+  const shown = JSON.stringify(raw.replace(/\0/g, '\\0'));
+  const fail = (why: string) => new BleedwrightError('ARCHIVE_PATH', `${shown} ${why}`);
+  if (raw.includes('\0')) throw fail('contains a NUL character');
+  if (raw.includes('\\')) throw fail('contains a backslash; zip paths use /');
+  if (raw.startsWith('/')) throw fail('is an absolute path');
+  if (/^[a-zA-Z]:/.test(raw)) throw fail('starts with a drive letter');
+  const normal = path.posix.normalize(raw);
+  const rel = path.posix.relative('/root', path.posix.join('/root', normal));
+  if (rel === '..' || rel.startsWith('../') || path.posix.isAbsolute(rel) || normal.startsWith('../') || normal === '..') {
+    throw fail('points outside the archive');
+  }
+  return normal.replace(/^\.\//, '').replace(/\/$/, '');
+}
+
+// CP437, the zip default for names without the UTF-8 flag (bit 11): bytes 0x80-0xFF.
+const CP437_HIGH =
+  'ÇüéâäàåçêëèïîìÄÅÉæÆôöòûùÿÖÜ¢£¥₧ƒáíóúñÑªº¿⌐¬½¼¡«»░▒▓│┤╡╢╖╕╣║╗╝╜╛┐└┴┬├─┼╞╟╚╔╩╦╠═╬╧╨╤╥╙╘╒╓╫╪┘┌█▄▌▐▀αßΓπΣσµτΦΘΩδ∞φε∩≡±≥≤⌠⌡÷≈°∙·√ⁿ²■\u00a0';
+
+function decodeName(buf: Buffer, utf8: boolean): string {
+  if (utf8 || buf.every((b) => b < 0x80)) return buf.toString('utf8');
+  return Array.from(buf, (b) => (b < 0x80 ? String.fromCharCode(b) : CP437_HIGH[b - 0x80]!)).join('');
+}
+
+function isArchiveName(p: string): boolean {
+  const lower = p.toLowerCase();
+  return ARCHIVE_EXTENSIONS.some((ext) => lower.endsWith(ext));
+}
+
+async function readCounted(stream: NodeJS.ReadableStream & { destroy?: () => void }, name: string, limits: ArchiveLimits, bytesRead: { total: number }, compressed: number): Promise<Buffer> {
+  const chunks: Buffer[] = [];
+  let size = 0;
+  for await (const chunk of stream as AsyncIterable<Buffer>) {
+    size += chunk.length;
+    bytesRead.total += chunk.length;
+    if (size > limits.maxEntryBytes) {
+      stream.destroy?.();
+      throw new BleedwrightError('ARCHIVE_TOO_LARGE', `"${name}" inflates to more than ${formatBytes(limits.maxEntryBytes)}, the limit for one file`);
+    }
+    if (bytesRead.total > limits.maxTotalBytes) {
+      stream.destroy?.();
+      throw new BleedwrightError('ARCHIVE_TOO_LARGE', `the archive inflates to more than ${formatBytes(limits.maxTotalBytes)} in total`);
+    }
+    if (size > limits.ratioFloorBytes && compressed > 0 && size / compressed > limits.maxRatio) {
+      stream.destroy?.();
+      throw new BleedwrightError('ARCHIVE_RATIO', `"${name}" expands more than ${limits.maxRatio} times when unpacked, which looks like a zip bomb`);
+    }
+    chunks.push(chunk);
+  }
+  return Buffer.concat(chunks);
+}
+
+function formatBytes(n: number): string {
+  return n >= 1024 * 1024 ? `${Math.round(n / (1024 * 1024))} MB` : `${Math.round(n / 1024)} KB`;
+}
+
+type RawEntry = { path: string; size: number; read: () => Promise<Buffer> };
+
+async function listZip(file: string, limits: ArchiveLimits, bytesRead: { total: number }): Promise<{ raw: RawEntry[]; skipped: SkippedEntry[] }> {
+  let dir: unzipper.CentralDirectory;
+  try {
+    dir = await unzipper.Open.file(file);
+  } catch (err) {
+    throw new BleedwrightError('ARCHIVE_UNREADABLE', `the zip file could not be read (${(err as Error).message})`);
+  }
+  if (dir.files.length > limits.maxEntries) {
+    throw new BleedwrightError('ARCHIVE_TOO_MANY_ENTRIES', `the zip has ${dir.files.length} entries, over the limit of ${limits.maxEntries}`);
+  }
+  const raw: RawEntry[] = [];
+  const skipped: SkippedEntry[] = [];
+  const seen = new Set<string>();
+  let declaredTotal = 0;
+  for (const f of dir.files) {
+    const name = safeEntryName(decodeName(f.pathBuffer, (f.flags & 0x800) !== 0));
+    const unixMode = (f.externalFileAttributes >>> 16) & 0o170000;
+    if (unixMode === 0o120000) throw new BleedwrightError('ARCHIVE_SYMLINK', `"${name}" is a symbolic link; links are not accepted in art sets`);
+    if (f.type === 'Directory' || name === '' || name.endsWith('/')) continue;
+    if (isArchiveName(name)) throw new BleedwrightError('ARCHIVE_NESTED', `"${name}" is an archive inside the archive; unpack it and zip the images together`);
+    if ((f.flags & 0x1) !== 0) throw new BleedwrightError('ARCHIVE_UNREADABLE', `"${name}" is password-protected`);
+    if (f.uncompressedSize > limits.maxEntryBytes) {
+      throw new BleedwrightError('ARCHIVE_TOO_LARGE', `"${name}" inflates to more than ${formatBytes(limits.maxEntryBytes)}, the limit for one file`);
+    }
+    if (f.uncompressedSize > limits.ratioFloorBytes && f.compressedSize > 0 && f.uncompressedSize / f.compressedSize > limits.maxRatio) {
+      throw new BleedwrightError('ARCHIVE_RATIO', `"${name}" expands more than ${limits.maxRatio} times when unpacked, which looks like a zip bomb`);
+    }
+    declaredTotal += f.uncompressedSize;
+    if (declaredTotal > limits.maxTotalBytes) {
+      throw new BleedwrightError('ARCHIVE_TOO_LARGE', `the archive inflates to more than ${formatBytes(limits.maxTotalBytes)} in total`);
+    }
+    if (seen.has(name)) {
+      skipped.push({ path: name, reason: 'appears twice in the zip; the first copy was used' });
+      continue;
+    }
+    seen.add(name);
+    raw.push({
+      path: name,
+      size: f.uncompressedSize,
+      read: async () => {
+        try {
+          return await readCounted(f.stream(), name, limits, bytesRead, f.compressedSize);
+        } catch (err) {
+          if (err instanceof BleedwrightError) throw err;
+          throw new BleedwrightError('ARCHIVE_UNREADABLE', `"${name}" could not be unpacked (${(err as Error).message})`);
+        }
+      },
+    });
+  }
+  return { raw, skipped };
+}
+
+async function listFolder(root: string, limits: ArchiveLimits): Promise<{ raw: RawEntry[]; skipped: SkippedEntry[] }> {
+  const raw: RawEntry[] = [];
+  const skipped: SkippedEntry[] = [];
+  const walk = async (dir: string, rel: string): Promise<void> => {
+    const items = await readdir(dir, { withFileTypes: true });
+    for (const item of items) {
+      const relPath = rel ? `${rel}/${item.name}` : item.name;
+      const full = path.join(dir, item.name);
+      const info = await lstat(full);
+      if (info.isSymbolicLink()) {
+        skipped.push({ path: relPath, reason: 'symbolic link; links are not followed' });
+      } else if (info.isDirectory()) {
+        await walk(full, relPath);
+      } else if (info.isFile()) {
+        if (raw.length >= limits.maxEntries) {
+          throw new BleedwrightError('ARCHIVE_TOO_MANY_ENTRIES', `the folder has more than ${limits.maxEntries} files`);
+        }
+        if (isArchiveName(relPath)) {
+          skipped.push({ path: relPath, reason: 'an archive inside the art set; archives are not opened' });
+          continue;
+        }
+        raw.push({
+          path: relPath,
+          size: info.size,
+          read: async () => {
+            if (info.size > limits.maxEntryBytes) {
+              throw new BleedwrightError('ARCHIVE_TOO_LARGE', `"${relPath}" is larger than ${formatBytes(limits.maxEntryBytes)}, the limit for one file`);
+            }
+            return readFile(full);
+          },
+        });
+      }
+    }
+  };
+  await walk(root, '');
+  return { raw, skipped };
+}
+
+/** The one folder every usable entry sits under, if there is exactly one (desktop archivers add it). */
+function commonTopFolder(paths: readonly string[]): string {
+  if (paths.length === 0) return '';
+  const first = paths[0]!.split('/');
+  if (first.length < 2) return '';
+  const top = first[0]!;
+  return paths.every((p) => p.startsWith(`${top}/`)) ? top : '';
+}
+
+/** Opens a zip or a folder of card art; validates names, classifies entries, parses manifest.csv. */
+export async function openArtSet(source: string, limits: Partial<ArchiveLimits> = {}): Promise<ArtSet> {
+  const lim = { ...DEFAULT_ARCHIVE_LIMITS, ...limits };
+  let info;
+  try {
+    info = await stat(source);
+  } catch {
+    throw new BleedwrightError('SOURCE_NOT_FOUND', `"${source}" does not exist`);
+  }
+  const bytesRead = { total: 0 };
+  const type = info.isDirectory() ? 'folder' : 'zip';
+  const { raw, skipped } = type === 'folder' ? await listFolder(source, lim) : await listZip(source, lim, bytesRead);
+
+  const usable = raw.filter((e) => !junkReason(e.path));
+  const root = commonTopFolder(usable.map((e) => e.path));
+  const entries: ArtEntry[] = [];
+  const readers = new Map<string, () => Promise<Buffer>>();
+  for (const e of raw) {
+    const rel = root && e.path.startsWith(`${root}/`) ? e.path.slice(root.length + 1) : e.path;
+    const kind = classify(rel);
+    if (kind === 'junk') {
+      skipped.push({ path: e.path, reason: junkReason(e.path)! });
+    } else if (kind === 'other') {
+      skipped.push({ path: e.path, reason: 'not a card image (PNG, JPEG, WebP or TIFF)' });
+    } else {
+      entries.push({ path: rel, kind, size: e.size });
+      readers.set(rel, e.read);
+    }
+  }
+  if (!entries.some((e) => e.kind === 'image' || e.kind === 'back-candidate')) {
+    throw new BleedwrightError('ARCHIVE_EMPTY', 'no card images (PNG, JPEG, WebP or TIFF) were found in the art set');
+  }
+  const set: ArtSet = { source, type, root, entries, skipped, manifest: null, readers, limits: lim, bytesRead };
+  const manifestEntry = entries.find((e) => e.kind === 'manifest' && e.path.toLowerCase() === 'manifest.csv');
+  if (manifestEntry) set.manifest = parseManifest((await readEntry(set, manifestEntry.path)).toString('utf8'), new Set(imagePaths(set)));
+  return set;
+}
+
+/** Paths of every image in the set (fronts and back candidates). */
+export function imagePaths(set: ArtSet): string[] {
+  return set.entries.filter((e) => e.kind === 'image' || e.kind === 'back-candidate').map((e) => e.path);
+}
+
+/** Reads one entry into memory, counting the real inflated bytes against the limits. */
+export async function readEntry(set: ArtSet, entryPath: string): Promise<Buffer> {
+  const read = set.readers.get(entryPath);
+  if (!read) throw new BleedwrightError('SOURCE_NOT_FOUND', `"${entryPath}" is not in the art set`);
+  return read();
+}
+
+/** Parses manifest.csv (columns file, copies, back, title); row numbers count the header as row 1. */
+export function parseManifest(text: string, known: ReadonlySet<string>): ManifestRow[] {
+  let records: Record<string, string>[];
+  try {
+    records = parseCsv(text.replace(/^\uFEFF/, ''), {
+      columns: (header: string[]) => header.map((h) => h.trim().toLowerCase()),
+      skip_empty_lines: true,
+      trim: true,
+      relax_column_count: true,
+    });
+  } catch (err) {
+    throw new BleedwrightError('MANIFEST_INVALID', `manifest.csv could not be read (${(err as Error).message})`);
+  }
+  if (records.length > 0 && !('file' in records[0]!)) {
+    throw new BleedwrightError('MANIFEST_INVALID', 'manifest.csv needs a "file" column (columns: file, copies, back, title)');
+  }
+  const clean = (p: string) => p.replace(/\\/g, '/').replace(/^\.\//, '');
+  const seen = new Set<string>();
+  return records.map((rec, i) => {
+    const row = i + 2;
+    const file = clean(rec.file ?? '');
+    if (!file) throw new BleedwrightError('MANIFEST_INVALID', `manifest.csv row ${row}: "file" is empty`);
+    if (!known.has(file)) throw new BleedwrightError('MANIFEST_INVALID', `manifest.csv row ${row}: file "${file}" is not in the art set`);
+    if (seen.has(file)) throw new BleedwrightError('MANIFEST_INVALID', `manifest.csv row ${row}: file "${file}" is listed twice`);
+    seen.add(file);
+    const copiesText = rec.copies ?? '';
+    const copies = copiesText === '' ? 1 : Number(copiesText);
+    if (!Number.isInteger(copies) || copies < 0 || copies > MAX_COPIES) {
+      throw new BleedwrightError('MANIFEST_INVALID', `manifest.csv row ${row}: copies "${copiesText}" must be a whole number from 0 to ${MAX_COPIES}`);
+    }
+    const back = rec.back ? clean(rec.back) : null;
+    if (back && !known.has(back)) throw new BleedwrightError('MANIFEST_INVALID', `manifest.csv row ${row}: back "${back}" is not in the art set`);
+    return { file, copies, back, title: rec.title ? rec.title : null, row };
+  });
+}
