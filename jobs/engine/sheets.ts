@@ -16,7 +16,7 @@ import {
 } from 'pdf-lib';
 import { embedPngPassThrough } from './pdf-embed.ts';
 import { PdfEngineError } from './pdf-errors.ts';
-import { toWinAnsi, wrapText } from './pdf-text.ts';
+import { wrapText } from './pdf-text.ts';
 
 /** Paper sizes in points: Letter 8.5 x 11 in (ANSI/ASME Y14.1), A4 210 x 297 mm (ISO 216). */
 export const PAPER_PT = {
