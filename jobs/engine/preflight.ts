@@ -28,12 +28,16 @@ export function aspectChange(src: { w: number; h: number }, target: { w: number;
   return { off: Math.abs(ratio - 1), changed: 1 - Math.min(ratio, 1 / ratio) };
 }
 
-/** Decides whether art is trim-size or already includes bleed, from its proportions. */
+/**
+ * Decides whether art is trim-size or already includes bleed, from its proportions: art counts as
+ * bleed art when it matches trim + bleed (within the aspect tolerance) better than the trim. Art that
+ * matches neither is treated as trim art and fitted (ASPECT_MISMATCH says by how much).
+ */
 export function detectSourceKind(src: { w: number; h: number }, trimPx: { w: number; h: number }, pagePx: { w: number; h: number }): 'trim' | 'bleed' {
   const a = src.w / src.h;
   const toTrim = Math.abs(Math.log(a / (trimPx.w / trimPx.h)));
   const toPage = Math.abs(Math.log(a / (pagePx.w / pagePx.h)));
-  return toPage < toTrim ? 'bleed' : 'trim';
+  return toPage < toTrim && toPage <= Math.log(1 + PREFLIGHT_CONFIG.aspectTolerance) ? 'bleed' : 'trim';
 }
 
 const pct = (share: number) => Math.round(share * 1000) / 10;
