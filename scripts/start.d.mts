@@ -1,0 +1,2 @@
+export function clientIsStale(): boolean;
+export function buildClient(): void;

@@ -1,0 +1,74 @@
+// The access table: every route x every kind of caller, with the status each must get.
+// Later issues add rows to ROUTES (and fixtures to RouteContext when they need objects to act on).
+import type { Knex } from 'knex';
+import type { RunningServer } from '../../server/server.ts';
+import { upsertMembership } from '../../server/db/memberships.ts';
+import { createUser, uniqueEmail, waitForMailLink, type ActorName, type WorkspaceFixture } from './fixtures.ts';
+
+export interface RouteContext {
+  fx: WorkspaceFixture;
+  server: RunningServer;
+  db: Knex;
+}
+
+export interface AccessRow {
+  name: string;
+  method: 'GET' | 'POST' | 'PATCH' | 'DELETE';
+  /** Builds the path; may create a fresh object to act on (called once per row). */
+  prepare: (ctx: RouteContext) => Promise<{ path: string; body?: unknown }>;
+  expect: Record<ActorName, number>;
+}
+
+export const PUBLIC = { anonymous: 200, outsider: 200, helper: 200, maker: 200, owner: 200 };
+export const SIGNED_IN = { anonymous: 401, outsider: 200, helper: 200, maker: 200, owner: 200 };
+export const MEMBERS = { anonymous: 401, outsider: 404, helper: 200, maker: 200, owner: 200 };
+export const OWNERS = (ok: number) => ({ anonymous: 401, outsider: 404, helper: 403, maker: 403, owner: ok });
+
+export async function extraMember(ctx: RouteContext): Promise<string> {
+  const u = await createUser(ctx.db, 'target');
+  await upsertMembership(ctx.db, ctx.fx.workspaceId, u.id, 'helper');
+  return u.id;
+}
+
+export async function pendingInvite(ctx: RouteContext): Promise<{ id: string; token: string }> {
+  const email = uniqueEmail('invitee');
+  const res = await ctx.fx.actors.owner.post(`/api/workspaces/${ctx.fx.workspaceId}/invites`, { email, role: 'helper' });
+  const link = await waitForMailLink(ctx.server, email);
+  return { id: res.body.id, token: link.split('/invite/')[1] };
+}
+
+export const ROUTES: AccessRow[] = [
+  { name: 'health', method: 'GET', prepare: async () => ({ path: '/api/health' }), expect: PUBLIC },
+  { name: 'session', method: 'GET', prepare: async () => ({ path: '/api/session' }), expect: PUBLIC },
+  { name: 'list workspaces', method: 'GET', prepare: async () => ({ path: '/api/workspaces' }), expect: SIGNED_IN },
+  { name: 'workspace', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}` }), expect: MEMBERS },
+  { name: 'list members', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/members` }), expect: MEMBERS },
+  {
+    name: 'change role',
+    method: 'PATCH',
+    prepare: async (ctx) => ({ path: `/api/workspaces/${ctx.fx.workspaceId}/members/${await extraMember(ctx)}`, body: { role: 'maker' } }),
+    expect: OWNERS(204),
+  },
+  {
+    name: 'remove member',
+    method: 'DELETE',
+    prepare: async (ctx) => ({ path: `/api/workspaces/${ctx.fx.workspaceId}/members/${await extraMember(ctx)}` }),
+    expect: OWNERS(204),
+  },
+  { name: 'list invites', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/invites` }), expect: OWNERS(200) },
+  {
+    name: 'send invite',
+    method: 'POST',
+    prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/invites`, body: { email: uniqueEmail('new'), role: 'helper' } }),
+    expect: OWNERS(201),
+  },
+  {
+    name: 'withdraw invite',
+    method: 'DELETE',
+    prepare: async (ctx) => ({ path: `/api/workspaces/${ctx.fx.workspaceId}/invites/${(await pendingInvite(ctx)).id}` }),
+    expect: OWNERS(204),
+  },
+  { name: 'captured mail', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/mail` }), expect: OWNERS(200) },
+  { name: 'invite preview', method: 'GET', prepare: async (ctx) => ({ path: `/api/invites/${(await pendingInvite(ctx)).token}` }), expect: PUBLIC },
+];
+
