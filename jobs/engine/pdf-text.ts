@@ -48,3 +48,17 @@ export function fitText(text: string, font: PDFFont, size: number, maxWidth: num
   while (cut.length > 1 && font.widthOfTextAtSize(`${cut}...`, size) > maxWidth) cut = cut.slice(0, -1);
   return `${cut}...`;
 }
+
+/** Breaks text without spaces (file names) into at most `maxLines` lines by characters; the last is shortened with "...". */
+export function breakChars(text: string, font: PDFFont, size: number, maxWidth: number, maxLines: number): string[] {
+  const lines: string[] = [];
+  let rest = toWinAnsi(text);
+  while (rest && lines.length < maxLines - 1 && font.widthOfTextAtSize(rest, size) > maxWidth) {
+    let n = 1;
+    while (n < rest.length && font.widthOfTextAtSize(rest.slice(0, n + 1), size) <= maxWidth) n++;
+    lines.push(rest.slice(0, n));
+    rest = rest.slice(n);
+  }
+  if (rest) lines.push(fitText(rest, font, size, maxWidth));
+  return lines;
+}
