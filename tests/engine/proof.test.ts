@@ -1,5 +1,5 @@
 import { execFile } from 'node:child_process';
-import { mkdtemp, rm } from 'node:fs/promises';
+import { mkdtemp, readFile, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { promisify } from 'node:util';
@@ -79,11 +79,14 @@ describe('writeProof', () => {
     expect(text).toContain('safe line');
   });
 
-  it('writes one page for an empty or small deck', async () => {
+  it('writes one page for a small deck, the same bytes on a retry', async () => {
     const outPath = path.join(dir, 'small.pdf');
-    const cards: ProofCard[] = [{ pngPath: await card('solo.png', 10), name: 'solo.png', findings: [] }];
+    const cards: ProofCard[] = [{ pngPath: await card('solo.png', 10), name: 'solo.png', findings: [{ code: 'DPI_LOW', severity: 'warn' }] }];
     expect(await writeProof({ cards, trimIn: poker, bleedIn, safeIn, title: 'Solo', outPath })).toEqual({ pages: 1 });
     const { stdout } = await run('qpdf', ['--check', outPath]);
     expect(stdout).toContain('No syntax or stream encoding errors found');
+    const again = path.join(dir, 'small-again.pdf');
+    await writeProof({ cards, trimIn: poker, bleedIn, safeIn, title: 'Solo', outPath: again });
+    expect((await readFile(outPath)).equals(await readFile(again))).toBe(true);
   });
 });

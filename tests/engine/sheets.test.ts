@@ -216,6 +216,15 @@ describe('writeImposedSheets', () => {
     expect(text).toContain('Only print art you have the rights to print.');
   });
 
+  it('writes the same bytes on a retry (no dates or random ids)', async () => {
+    const card = await cardPng('again.png', [10, 200, 90]);
+    const args = { fronts: [card, null, card], backs: [card, null, null], paper: 'a4' as const, marks: true, trimIn: poker, bleedIn, title: 'Again' };
+    await writeImposedSheets({ ...args, outPath: path.join(dir, 'again-1.pdf') });
+    await writeImposedSheets({ ...args, outPath: path.join(dir, 'again-2.pdf') });
+    const [a, b] = await Promise.all([readFile(path.join(dir, 'again-1.pdf')), readFile(path.join(dir, 'again-2.pdf'))]);
+    expect(a.equals(b)).toBe(true);
+  });
+
   it('writes no back sheets when no card has a back', async () => {
     const card = await cardPng('nob.png', [90, 90, 20]);
     const outPath = path.join(dir, 'noback.pdf');
