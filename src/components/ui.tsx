@@ -81,7 +81,7 @@ export function ErrorNote({ error }: { error: unknown }) {
 }
 
 export function RoleBadge({ role }: { role: string }) {
-  const colour = role === 'owner' ? 'bg-plum text-paper' : role === 'maker' ? 'bg-proof text-white' : 'bg-paper-deep text-ink';
+  const colour = role === 'owner' ? 'bg-plum text-paper ring-1 ring-cut/70' : role === 'maker' ? 'bg-proof text-white' : 'bg-paper-deep text-ink';
   return <span className={`rounded-full px-2.5 py-0.5 font-mono text-xs font-medium ${colour}`}>{role}</span>;
 }
 

@@ -29,7 +29,7 @@ export function MembersPage() {
   return (
     <>
       <PageHeader eyebrow={workspace.data?.name} title="Members" />
-      <div className="grid gap-8 xl:grid-cols-[2fr_1fr]">
+      <div className="grid items-start gap-8 xl:grid-cols-[2fr_1fr]">
         <Panel title="People in this workspace">
           {members.isPending ? (
             <Loading what="members" />
