@@ -44,7 +44,7 @@ export type RunReport = {
     /** Pages of the combined PDF (one per deck slot, backs included). */
     pages: number;
     paddingAdded: number;
-    /** Home-print sheets written (fronts and backs), 0 when none. */
+    /** Home-print front sheets written (each with its back sheet when there are backs), 0 when none. */
     sheets: number;
     findingsByCode: Record<string, number>;
   };
