@@ -1,4 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { AddressInfo } from 'node:net';
+import { createServer } from 'node:http';
+import { createApp } from '../../server/app.ts';
 import type { RunningServer } from '../../server/server.ts';
 import { Actor, TEST_PASSWORD, createUser, startTestServer } from './fixtures.ts';
 
@@ -99,6 +102,31 @@ describe('sign-in and sessions', () => {
     const res = await fetch(`${server.url}/api/health`);
     expect(res.status).toBe(200);
     expect(await res.json()).toEqual({ database: 'ok', queue: 'ok' });
+  });
+});
+
+describe('health when a part is down', () => {
+  it('answers 503 and names the queue when pg-boss does not answer', async () => {
+    const http = createServer(createApp({ ...server.deps, queue: { healthy: async () => false } }));
+    await new Promise<void>((r) => http.listen(0, '127.0.0.1', r));
+    try {
+      const res = await fetch(`http://127.0.0.1:${(http.address() as AddressInfo).port}/api/health`);
+      expect(res.status).toBe(503);
+      expect(await res.json()).toEqual({ database: 'ok', queue: 'down' });
+    } finally {
+      http.close();
+    }
+  });
+});
+
+describe('guessing passwords', () => {
+  it('slows down after 10 failed sign-ins for one address with 429', async () => {
+    const target = (await createUser(server.deps.db, 'guessed')).email;
+    const actor = await Actor.anonymous(server.url);
+    for (let i = 0; i < 10; i++) expect((await actor.post('/api/session', { email: target, password: `guess-${i}` })).status).toBe(401);
+    const blocked = await actor.post('/api/session', { email: target, password: TEST_PASSWORD });
+    expect(blocked.status).toBe(429);
+    expect(blocked.body.error.code).toBe('TOO_MANY_ATTEMPTS');
   });
 });
 
