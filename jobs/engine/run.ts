@@ -159,6 +159,12 @@ export async function assembleOutputs(opts: {
       const tokens = { name: stemOf(slot.source), seq: slot.seq, copy: slot.copy, folder: folderOf(slot.source), ext };
       wanted.push({ slot, name: renderName(recipe.naming, tokens) });
     }
+    // A common back the deck does not place (placement "none") still gets its single: printers that
+    // take one back file for the whole deck ask for it separately.
+    if (commonBack && !backsNamed.has(commonBack)) {
+      const slot: DeckSlot = { seq: plan.slots.length + 1, kind: 'back', source: commonBack, copy: 0, padding: false };
+      wanted.push({ slot, name: renderName(recipe.naming, { name: stemOf(commonBack), seq: slot.seq, copy: 0, folder: folderOf(commonBack), ext }) });
+    }
     const names = uniqueNames(wanted.map((w) => w.name));
     await mkdir(cardsDir, { recursive: true });
     for (let i = 0; i < wanted.length; i++) {
@@ -179,7 +185,7 @@ export async function assembleOutputs(opts: {
   const title = recipe.name;
   let pdfName: string | null = null;
   let pages = 0;
-  if (recipe.outputs.pdf && plan.slots.length > 0) {
+  if (recipe.outputs.pdf && fronts.length > 0) {
     onProgress?.({ phase: 'pdf', done: 0, total: 1 });
     const slug = slugify(recipe.name);
     pdfName = `${RESERVED_PDF_NAMES.has(slug) ? `${slug}-deck` : slug}.pdf`;
