@@ -144,7 +144,8 @@ export type Turn = Recipe['turn'];
 
 function formatIssue(issue: z.core.$ZodIssue): string {
   const path = issue.path.map(String).join('.');
-  return `${path || 'recipe'}: ${issue.message}`;
+  const why = issue.code === 'unrecognized_keys' ? `unknown field ${issue.keys.map((k) => `"${k}"`).join(', ')}` : issue.message;
+  return `${path || 'recipe'}: ${why}`;
 }
 
 /** Parses a recipe (object or JSON text); throws RECIPE_INVALID naming the field and why. */

@@ -1,9 +1,10 @@
-import { mkdtemp, writeFile } from 'node:fs/promises';
+import { mkdtemp, readFile, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { conformCard, encodeSingle, type ConformedCard, type ConformResult } from '../../jobs/engine/conform.ts';
+import { markDuplicates } from '../../jobs/engine/preflight.ts';
 import { parseRecipe, recipeGeometry, type RecipeInput } from '../../shared/recipe.ts';
 import { near, rawRgb, run, solidPng, svgPng } from './helpers.ts';
 
@@ -192,6 +193,29 @@ describe('preflight numbers', () => {
     expect(card.info.effectiveDpi).toBe(300);
     // The pixels are the source's own: nothing mirrored in.
     expect((await rawRgb(card.png)).data.equals((await rawRgb(await busyArt(825, 1125))).data)).toBe(true);
+  });
+
+  it('uses only the first page of a multi-page file and says so', async () => {
+    const first = path.join(dir, 'page1.png');
+    const second = path.join(dir, 'page2.png');
+    await writeFile(first, await svgPng(150, 210, '<rect width="150" height="210" fill="#ff0000"/><circle cx="40" cy="40" r="20" fill="#fff"/>'));
+    await writeFile(second, await svgPng(150, 210, '<rect width="150" height="210" fill="#0000ff"/>'));
+    const tiff = path.join(dir, 'two-pages.tif');
+    expect(run('/usr/bin/convert', [first, second, tiff]).status).toBe(0);
+    const card = ok(await conformCard({ input: await readFile(tiff), sourceName: 'two-pages.tif', recipe: recipe({ dpi: 72 }) }));
+    expect(card.info.findings.find((f) => f.code === 'MULTI_FRAME')?.numbers).toEqual({ frames: 2 });
+    expect(near((await rawRgb(card.png)).px(90, 120), [255, 0, 0])).toBe(true);
+  });
+
+  it('marks cards whose decoded pixels equal an earlier card (same art saved as PNG and lossless WebP)', async () => {
+    const art = await busyArt(75, 105);
+    const a = ok(await conformCard({ input: art, sourceName: 'a.png', recipe: recipe() }));
+    const b = ok(await conformCard({ input: await sharp(art).webp({ lossless: true }).toBuffer(), sourceName: 'b.webp', recipe: recipe() }));
+    const c = ok(await conformCard({ input: await busyArt(75, 106), sourceName: 'c.png', recipe: recipe() }));
+    const cards = [a, b, c].map((x, i) => ({ path: ['a.png', 'b.webp', 'c.png'][i]!, sha256: x.info.sha256, findings: x.info.findings }));
+    markDuplicates(cards);
+    expect(cards.map((x) => x.findings.filter((f) => f.code === 'DUPLICATE_PIXELS').length)).toEqual([0, 1, 0]);
+    expect(cards[1]!.findings.find((f) => f.code === 'DUPLICATE_PIXELS')!.message).toBe('Same pixels as "a.png".');
   });
 
   it('turns unreadable files into error findings, never a crash', async () => {

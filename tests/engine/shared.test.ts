@@ -64,6 +64,8 @@ describe('recipe', () => {
     expect(bad({ name: 'x', fill: { mode: 'glitter' } })).toMatch(/^fill/);
     expect(bad({ name: 'x', back: { art: null, placement: 'last' } })).toMatch(/^back\.art: is required/);
     expect(bad({})).toMatch(/^name: /);
+    expect(bad({ name: 'x', bleeed: 1 })).toBe('recipe: unknown field "bleeed"');
+    expect(bad({ name: 'x', trim: { width: -5, height: 10, unit: 'mm' } })).toBe('trim.width: must be more than 0');
     expect(bad('{ not json')).toMatch(/^recipe: is not valid JSON/);
   });
 
