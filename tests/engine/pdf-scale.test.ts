@@ -57,11 +57,13 @@ describe('writeCombinedPdf at scale', () => {
     const base = process.memoryUsage();
     const baseline = base.heapUsed + base.arrayBuffers;
     let peak = 0;
+    let memorySamples = 0;
     const tmpSizes: number[] = [];
     const memorySampler = setInterval(() => {
       collectGarbage();
       const m = process.memoryUsage();
       peak = Math.max(peak, m.heapUsed + m.arrayBuffers - baseline);
+      memorySamples++;
     }, 50);
     const sizeSampler = setInterval(() => {
       stat(tmpPath).then(
@@ -82,7 +84,7 @@ describe('writeCombinedPdf at scale', () => {
     const growing = tmpSizes.filter((s) => s > 0 && s < size);
     expect(new Set(growing).size).toBeGreaterThan(3);
     // Live heap plus Buffer memory grew far less than the PDF's size (an in-memory writer needs >= size).
-    expect(peak).toBeGreaterThan(0);
+    expect(memorySamples).toBeGreaterThan(3);
     expect(peak).toBeLessThan(size / 5);
 
     const { stdout: info } = await run('pdfinfo', [outPath]);
