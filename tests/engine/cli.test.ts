@@ -70,7 +70,7 @@ describe('bleedwright run on the samples', () => {
     expect(r.status).toBe(0);
     // Not a TTY: no progress bar, just the summary.
     expect(r.stdout).not.toMatch(/\r|\u2591|\u2588/);
-    expect(await readdir(parent)).toEqual(['out']);
+    expect(await readdir(parent)).toEqual(['out']); // nothing beside the out folder
     const files = (await readdir(out)).sort();
     expect(files).toEqual(['bundle.zip', 'cards', 'cinderbrook-couriers-poker.pdf', 'proof.pdf', 'report.csv', 'report.json', 'sheets-letter.pdf']);
 
@@ -118,6 +118,12 @@ describe('bleedwright run on the samples', () => {
     expect(listing.stdout.trim().split('\n').sort()).toEqual(
       [...cards.map((c) => `cards/${c}`), 'cinderbrook-couriers-poker.pdf', 'proof.pdf', 'report.csv', 'report.json', 'sheets-letter.pdf'].sort(),
     );
+    // Idempotent: a second run (a retry) writes the same bytes.
+    const again = path.join(parent, 'again');
+    expect(cli('run', 'samples/cinderbrook.zip', '--recipe', 'samples/poker.json', '--out', again).status).toBe(0);
+    for (const f of ['bundle.zip', 'report.json', 'cinderbrook-couriers-poker.pdf']) {
+      expect((await readFile(path.join(again, f))).equals(await readFile(path.join(out, f))), f).toBe(true);
+    }
     const csv = await readFile(path.join(out, 'report.csv'), 'utf8');
     expect(csv.split('\r\n')[0]).toBe('source,role,title,state,outputs,copies,source_width,source_height,format,effective_dpi,turn,fill,source_kind,finding_codes,findings');
   });
