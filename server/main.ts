@@ -53,8 +53,9 @@ try {
 }
 
 const line = '-'.repeat(64);
-const out = [line, `Bleedwright is running at ${running.url}`];
-if (running.mailCatcher) out.push(`Captured mail (owners): ${running.url}/w/${running.demo?.workspaceId ?? ''}/mail  (SMTP 127.0.0.1:${running.mailCatcher.port})`);
+const shownUrl = running.deps.config.publicUrl.replace(/\/$/, '');
+const out = [line, `Bleedwright is running at ${shownUrl}`];
+if (running.mailCatcher) out.push(`Captured mail (owners): ${shownUrl}/w/${running.demo?.workspaceId ?? ''}/mail  (SMTP 127.0.0.1:${running.mailCatcher.port})`);
 if (running.demo) {
   out.push('', 'Demo sign-ins (workspace "Tidewhistle Orchard"):');
   for (const a of running.demo.accounts) out.push(`  ${a.role.padEnd(7)} ${a.email.padEnd(24)} password: ${a.password}`);
