@@ -124,6 +124,26 @@ describe('writeCombinedPdf', () => {
     expect((await rawPixels(extracted)).equals(await rawPixels(src))).toBe(true);
   });
 
+  it('places a full-size poker card at 300 DPI, pixels intact', async () => {
+    // poker + 1/8 in bleed at 300 DPI = 825 x 1125 px (arithmetic); on a 198 x 270 pt page that is 300 ppi.
+    const svg =
+      '<svg xmlns="http://www.w3.org/2000/svg" width="825" height="1125"><defs><linearGradient id="g" x2="1" y2="1">' +
+      '<stop offset="0" stop-color="#1b3a5c"/><stop offset="1" stop-color="#e8b04a"/></linearGradient></defs>' +
+      '<rect width="825" height="1125" fill="url(#g)"/><circle cx="412" cy="562" r="240" fill="#7a1f3d"/></svg>';
+    const src = path.join(dir, 'poker.png');
+    await sharp(Buffer.from(svg)).removeAlpha().png().toFile(src);
+    const outPath = path.join(dir, 'poker.pdf');
+    await writeCombinedPdf({ pages: [{ kind: 'card', pngPath: src }], pagePt, bleedPt, title: 'Poker', outPath });
+    const { stdout: list } = await run('pdfimages', ['-list', outPath]);
+    const row = list.split('\n')[2].trim().split(/\s+/);
+    // columns: page num type width height color comp bpc enc interp object ID x-ppi y-ppi
+    expect(row.slice(3, 6)).toEqual(['825', '1125', 'rgb']);
+    expect(row.slice(12, 14)).toEqual(['300', '300']);
+    const prefix = path.join(dir, 'poker-out');
+    await run('pdfimages', ['-png', outPath, prefix]);
+    expect((await rawPixels(`${prefix}-000.png`)).equals(await rawPixels(src))).toBe(true);
+  });
+
   it('passes the PNG data through unchanged', async () => {
     const src = await makePng('passthrough.png', 40, 50, 11);
     const outPath = path.join(dir, 'passthrough.pdf');
