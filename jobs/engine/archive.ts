@@ -274,7 +274,7 @@ export async function openArtSet(source: string, limits: Partial<ArchiveLimits> 
 }
 
 /** Paths of every image in the set (fronts and back candidates). */
-export function imagePaths(set: ArtSet): string[] {
+export function imagePaths(set: Pick<ArtSet, 'entries'>): string[] {
   return set.entries.filter((e) => e.kind === 'image' || e.kind === 'back-candidate').map((e) => e.path);
 }
 

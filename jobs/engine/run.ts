@@ -69,7 +69,7 @@ async function mapLimited<T, R>(items: readonly T[], limit: number, fn: (item: T
 
 /** The sources to render: every front in the set and every back the recipe or manifest names. */
 export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: Recipe): Array<{ source: string; role: 'front' | 'back'; title: string | null }> {
-  const images = imagePaths(set as ArtSet);
+  const images = imagePaths(set);
   const known = new Set(images);
   const backs = new Set<string>();
   if (recipe.back.art) {
