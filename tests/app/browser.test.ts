@@ -44,7 +44,7 @@ describe('browser: invite a helper', () => {
 
     await page.getByRole('link', { name: 'Members' }).click();
     await page.getByLabel('E-mail address').fill(helperEmail);
-    await page.getByLabel('Role').selectOption('helper');
+    await page.getByLabel('Role', { exact: true }).selectOption('helper');
     await page.getByRole('button', { name: 'Send invitation' }).click();
     await page.getByRole('status').filter({ hasText: helperEmail }).waitFor();
     await page.getByText(helperEmail).first().waitFor();
