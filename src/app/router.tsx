@@ -3,7 +3,13 @@ import { SignInPage } from '../features/auth/components/sign-in-page';
 import { AcceptInvitePage } from '../features/invites/components/accept-invite-page';
 import { MailPage } from '../features/mail/components/mail-page';
 import { MembersPage } from '../features/members/components/members-page';
-import { ComingSoon } from '../features/placeholders/components/coming-soon';
+import { ArtSetPage } from '../features/art-sets/components/art-set-page';
+import { ArtSetsPage } from '../features/art-sets/components/art-sets-page';
+import { RecipeEditorPage } from '../features/recipes/components/recipe-editor-page';
+import { RecipesPage } from '../features/recipes/components/recipes-page';
+import { RunPage } from '../features/runs/components/run-page';
+import { RunsPage } from '../features/runs/components/runs-page';
+import { PublicSharePage } from '../features/shares/components/public-share-page';
 import { RootRedirect } from '../features/workspaces/components/root-redirect';
 import { WorkspaceHome } from '../features/workspaces/components/workspace-home';
 import { RequireSession, WorkspaceLayout } from './layout';
@@ -12,6 +18,8 @@ export const router = createBrowserRouter([
   { path: '/', element: <RootRedirect /> },
   { path: '/sign-in', element: <SignInPage /> },
   { path: '/invite/:token', element: <AcceptInvitePage /> },
+  // Share links work signed out: outside RequireSession on purpose.
+  { path: '/s/:token', element: <PublicSharePage /> },
   {
     element: <RequireSession />,
     children: [
@@ -22,9 +30,13 @@ export const router = createBrowserRouter([
           { index: true, element: <WorkspaceHome /> },
           { path: 'members', element: <MembersPage /> },
           { path: 'mail', element: <MailPage /> },
-          { path: 'recipes', element: <ComingSoon page="recipes" /> },
-          { path: 'art-sets', element: <ComingSoon page="art-sets" /> },
-          { path: 'runs', element: <ComingSoon page="runs" /> },
+          { path: 'recipes', element: <RecipesPage /> },
+          { path: 'recipes/new', element: <RecipeEditorPage /> },
+          { path: 'recipes/:recipeId', element: <RecipeEditorPage /> },
+          { path: 'art-sets', element: <ArtSetsPage /> },
+          { path: 'art-sets/:artSetId', element: <ArtSetPage /> },
+          { path: 'runs', element: <RunsPage /> },
+          { path: 'runs/:runId', element: <RunPage /> },
         ],
       },
     ],
