@@ -21,7 +21,7 @@ function newest(paths) {
 
 export function clientIsStale() {
   if (!existsSync('dist/index.html')) return true;
-  return newest(['src', 'index.html', 'vite.config.ts']) > statSync('dist/index.html').mtimeMs;
+  return newest(['src', 'shared', 'index.html', 'vite.config.ts']) > statSync('dist/index.html').mtimeMs;
 }
 
 export function buildClient() {
