@@ -37,6 +37,25 @@ export async function pendingInvite(ctx: RouteContext): Promise<{ id: string; to
   return { id: res.body.id, token: link.split('/invite/')[1] };
 }
 
+/** A fresh price sheet (invented prices) to read, change or delete. */
+export async function demoPriceSheet(ctx: RouteContext): Promise<string> {
+  const res = await ctx.fx.actors.owner.post(`/api/workspaces/${ctx.fx.workspaceId}/price-sheets`, priceSheetBody());
+  if (res.status !== 201) throw new Error(`price sheet not created: ${res.status} ${JSON.stringify(res.body)}`);
+  return res.body.priceSheet.id;
+}
+
+export const priceSheetBody = () => ({
+  name: `Sheet ${Math.random().toString(36).slice(2, 8)}`,
+  currency: 'EUR',
+  tiers: [{ maxCards: 54, pricePerSet: 9.5 }],
+  setupFee: 20,
+  setupWaivedAtSets: 10,
+  stocks: [],
+});
+
+/** Owners and makers write; helpers only read; outsiders see nothing. */
+export const WRITERS = (ok: number) => ({ anonymous: 401, outsider: 404, helper: 403, maker: ok, owner: ok });
+
 export const ROUTES: AccessRow[] = [
   { name: 'health', method: 'GET', prepare: async () => ({ path: '/api/health' }), expect: PUBLIC },
   { name: 'session', method: 'GET', prepare: async () => ({ path: '/api/session' }), expect: PUBLIC },
@@ -70,5 +89,27 @@ export const ROUTES: AccessRow[] = [
   },
   { name: 'captured mail', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/mail` }), expect: OWNERS(200) },
   { name: 'invite preview', method: 'GET', prepare: async (ctx) => ({ path: `/api/invites/${(await pendingInvite(ctx)).token}` }), expect: PUBLIC },
+  { name: 'list price sheets', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/price-sheets` }), expect: MEMBERS },
+  {
+    name: 'create price sheet',
+    method: 'POST',
+    prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/price-sheets`, body: priceSheetBody() }),
+    // Each actor's attempt uses the same name, so the maker's success makes the owner's a duplicate.
+    expect: { ...WRITERS(201), owner: 409 },
+  },
+  { name: 'price sheet', method: 'GET', prepare: async (ctx) => ({ path: `/api/workspaces/${ctx.fx.workspaceId}/price-sheets/${await demoPriceSheet(ctx)}` }), expect: MEMBERS },
+  {
+    name: 'change price sheet',
+    method: 'PATCH',
+    prepare: async (ctx) => ({ path: `/api/workspaces/${ctx.fx.workspaceId}/price-sheets/${await demoPriceSheet(ctx)}`, body: priceSheetBody() }),
+    expect: WRITERS(200),
+  },
+  {
+    name: 'delete price sheet',
+    method: 'DELETE',
+    prepare: async (ctx) => ({ path: `/api/workspaces/${ctx.fx.workspaceId}/price-sheets/${await demoPriceSheet(ctx)}` }),
+    // The maker deletes it first; the owner then finds nothing.
+    expect: { ...WRITERS(204), owner: 404 },
+  },
 ];
 
