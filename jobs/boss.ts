@@ -20,16 +20,20 @@ export async function startQueue(opts: {
   jobs?: JobDefinition[];
   names?: readonly string[];
   onError?: (err: Error) => void;
+  /** Extra pg-boss constructor options (e.g. a short maintenance interval in tests). */
+  bossOptions?: Omit<PgBoss.ConstructorOptions, 'connectionString'>;
 }): Promise<Queue> {
   const jobs = opts.jobs ?? JOBS;
   checkRegistry(opts.names ?? QUEUE_NAMES, jobs);
-  const boss = new PgBoss({ connectionString: opts.databaseUrl, schema: 'pgboss', max: 4 });
+  const boss = new PgBoss({ max: 4, schema: 'pgboss', ...opts.bossOptions, connectionString: opts.databaseUrl });
   boss.on('error', opts.onError ?? ((err) => console.error('pg-boss error', err)));
   await boss.start();
   for (const job of jobs) {
     const { name: _name, ...queueOptions } = job.options;
     await boss.createQueue(job.name, { name: job.name, ...queueOptions });
-    if (opts.work !== false) await boss.work(job.name, job.handler);
+    if (opts.work === false) continue;
+    const { workers = 1, ...workOptions } = job.work ?? {};
+    for (let i = 0; i < workers; i++) await boss.work(job.name, workOptions, job.handler as PgBoss.WorkHandler<object>);
   }
   return {
     boss,

@@ -1,14 +1,17 @@
 import type PgBoss from 'pg-boss';
+import { RUN_JOBS, RUN_QUEUE_NAMES } from './runs/jobs.ts';
 
 export interface JobDefinition<T extends object = object> {
   name: string;
   handler: (jobs: PgBoss.Job<T>[]) => Promise<unknown>;
   /** Queue options; retryLimit is always set explicitly (pg-boss 10's effective default is 2). */
   options: PgBoss.Queue & { retryLimit: number };
+  /** How this process works the queue: pg-boss work options plus how many workers (default 1). */
+  work?: PgBoss.WorkOptions & { workers?: number };
 }
 
 /** Every queue the app uses. Payloads carry ids only. */
-export const QUEUE_NAMES = ['noop'] as const;
+export const QUEUE_NAMES = ['noop', ...RUN_QUEUE_NAMES] as const;
 export type QueueName = (typeof QUEUE_NAMES)[number];
 
 // A health job: proves a worker picks jobs up. Later issues add their handlers to this one list.
@@ -18,6 +21,9 @@ export const JOBS: JobDefinition[] = [
     handler: async () => ({ ok: true }),
     options: { name: 'noop', retryLimit: 1, expireInSeconds: 60 },
   },
+  // Runs (issue 4): plan -> one render per card -> assemble. Handlers read the runtime installed by
+  // the process (jobs/runs/runtime.ts).
+  ...RUN_JOBS,
 ];
 
 /** Fails fast when a queue name has no handler, a handler has no queue name, or a name repeats. */

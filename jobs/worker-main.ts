@@ -1,16 +1,48 @@
 // `npm run worker`: runs the job handlers only, against the same PostgreSQL (DATABASE_URL) and storage
-// as the app. Start as many as you like on other machines.
-import { startQueue } from './boss.ts';
+// (BLEEDWRIGHT_STORAGE) as the app. Start as many as you like on other machines.
+import { resolve } from 'node:path';
+import { createLogger } from '../server/logger.ts';
+import { createDb } from '../server/db/knex.ts';
+import { createSmtpMailer } from '../server/mail.ts';
+import { localStorage } from '../server/storage.ts';
+import { startQueue, type Queue } from './boss.ts';
+import { installRunsRuntime, runsConfigFromEnv } from './runs/runtime.ts';
 
 const databaseUrl = process.env.DATABASE_URL;
 if (!databaseUrl) {
   console.error('DATABASE_URL is not set: point it at the database the app uses.');
   process.exit(2);
 }
-const queue = await startQueue({ databaseUrl });
-console.log('Bleedwright worker ready');
+const dataDir = resolve(process.env.BLEEDWRIGHT_DATA ?? '.data');
+const logger = createLogger();
+const config = runsConfigFromEnv();
+const db = createDb(databaseUrl, { min: 0, max: 4 });
+// Mail goes where the app's goes: SMTP_URL, else the app's local mail catcher.
+const smtp = process.env.SMTP_URL ? new URL(process.env.SMTP_URL) : null;
+const mailer = createSmtpMailer({
+  host: smtp?.hostname ?? '127.0.0.1',
+  port: smtp ? Number(smtp.port || 25) : Number(process.env.BLEEDWRIGHT_SMTP_PORT ?? 4425),
+  from: process.env.BLEEDWRIGHT_MAIL_FROM ?? 'Bleedwright <no-reply@bleedwright.example.test>',
+});
+let queue: Queue | null = null;
+installRunsRuntime({
+  db,
+  storage: localStorage(resolve(process.env.BLEEDWRIGHT_STORAGE ?? `${dataDir}/storage`)),
+  config,
+  mailer,
+  publicUrl: () => process.env.BLEEDWRIGHT_PUBLIC_URL ?? `http://127.0.0.1:${process.env.PORT ?? 4400}`,
+  logger,
+  send: (name, data, options = {}) => queue!.boss.send(name, data, options),
+});
+queue = await startQueue({
+  databaseUrl,
+  onError: (err) => logger.error({ err }, 'pg-boss'),
+  bossOptions: { maintenanceIntervalSeconds: config.maintenanceSeconds, schema: config.bossSchema },
+});
+console.log(`Bleedwright worker ready (pid ${process.pid}, ${config.workerConcurrency} render workers)`);
 const stop = async () => {
-  await queue.stop();
+  await queue?.stop();
+  await db.destroy();
   process.exit(0);
 };
 process.once('SIGINT', stop);

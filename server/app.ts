@@ -15,6 +15,11 @@ import { mailRoutes } from './routes/mail.ts';
 import { publicInviteRoutes, workspaceInviteRoutes } from './routes/invites.ts';
 import { SESSION_COOKIE, sessionRoutes } from './routes/session.ts';
 import { workspaceRoutes } from './routes/workspaces.ts';
+import { priceSheetRoutes } from './routes/price-sheets.ts';
+import { recipeRoutes } from './routes/recipes.ts';
+import { artSetRoutes } from './routes/art-sets.ts';
+import { runRoutes } from './routes/runs.ts';
+import { publicShareRoutes } from './routes/shares.ts';
 
 const SESSION_DAYS = 14;
 const REQUEST_ID = /^[A-Za-z0-9._-]{1,100}$/;
@@ -85,6 +90,11 @@ export function createApp(deps: AppDeps): Express {
   api.use('/workspaces/:workspaceId/members', memberRoutes(deps));
   api.use('/workspaces/:workspaceId/invites', workspaceInviteRoutes(deps));
   api.use('/workspaces/:workspaceId/mail', mailRoutes(deps));
+  api.use('/workspaces/:workspaceId/price-sheets', priceSheetRoutes(deps));
+  api.use('/workspaces/:workspaceId/recipes', recipeRoutes(deps));
+  api.use('/workspaces/:workspaceId/art-sets', artSetRoutes(deps));
+  api.use('/workspaces/:workspaceId/runs', runRoutes(deps));
+  api.use('/share', publicShareRoutes(deps));
   api.use('/workspaces', workspaceRoutes(deps));
   api.use(notFoundHandler);
   app.use('/api', api);

@@ -3,6 +3,8 @@ import type pg from 'pg';
 import type { Logger } from './logger.ts';
 import type { Mailer } from './mail.ts';
 import type { Mailbox } from './mail-catcher.ts';
+import type { Storage } from './storage.ts';
+import type { RunsConfig } from '../jobs/runs/runtime.ts';
 
 export interface AppConfig {
   /** Where people reach the app; used in links sent by e-mail. */
@@ -29,6 +31,13 @@ export interface AppDeps {
   clock: () => Date;
   storageRoot: string;
   config: AppConfig;
+  /** Runs (issue 4): file storage, upload and worker settings, and a way to send jobs. */
+  runs: {
+    storage: Storage;
+    config: RunsConfig;
+    /** Sends a job; null when pg-boss dropped it as a duplicate (singletonKey). */
+    send: (name: string, data: object, options?: Record<string, unknown>) => Promise<string | null>;
+  };
 }
 
 export type ServiceContext = Pick<AppDeps, 'db' | 'mailer' | 'clock' | 'config'>;

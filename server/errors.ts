@@ -24,7 +24,9 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   if (err instanceof ZodError) {
     const issue = err.issues[0];
     const field = issue?.path.join('.') || 'body';
-    res.status(400).json({ error: { code: 'VALIDATION', message: `${field}: ${issue?.message ?? 'invalid value'}`, field } });
+    // details: every issue with its dotted path, so forms can show each error beside its field.
+    const details = err.issues.map((i) => ({ path: i.path.map(String).join('.'), message: i.message }));
+    res.status(400).json({ error: { code: 'VALIDATION', message: `${field}: ${issue?.message ?? 'invalid value'}`, field, details } });
     return;
   }
   if (err instanceof AppError) {

@@ -41,6 +41,8 @@ try {
     cookieSecure: process.env.BLEEDWRIGHT_SECURE_COOKIES === '1',
     trustProxy: process.env.BLEEDWRIGHT_TRUST_PROXY === '1',
     seed: process.env.BLEEDWRIGHT_SEED !== '0',
+    // Zips dropped into INBOX/<workspace-slug>/<recipe-slug>/ start runs; BLEEDWRIGHT_INBOX=0 turns it off.
+    inbox: process.env.BLEEDWRIGHT_INBOX === '0' ? null : { root: resolve(process.env.BLEEDWRIGHT_INBOX ?? 'INBOX') },
     logger,
   });
 } catch (err) {
@@ -56,6 +58,7 @@ const line = '-'.repeat(64);
 const shownUrl = running.deps.config.publicUrl.replace(/\/$/, '');
 const out = [line, `Bleedwright is running at ${shownUrl}`];
 if (running.mailCatcher) out.push(`Captured mail (owners): ${shownUrl}/w/${running.demo?.workspaceId ?? ''}/mail  (SMTP 127.0.0.1:${running.mailCatcher.port})`);
+if (running.inbox) out.push(`Inbox folder: ${resolve(process.env.BLEEDWRIGHT_INBOX ?? 'INBOX')}/<workspace-slug>/<recipe-slug>/*.zip`);
 if (running.demo) {
   out.push('', 'Demo sign-ins (workspace "Tidewhistle Orchard"):');
   for (const a of running.demo.accounts) out.push(`  ${a.role.padEnd(7)} ${a.email.padEnd(24)} password: ${a.password}`);

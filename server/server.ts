@@ -10,6 +10,9 @@ import { createSmtpMailer } from './mail.ts';
 import { startMailCatcher, type MailCatcher } from './mail-catcher.ts';
 import { seedDemo, type DemoAccount } from './seed.ts';
 import { startQueue, type Queue } from '../jobs/boss.ts';
+import { installRunsRuntime, runsConfigFromEnv, type RunsConfig } from '../jobs/runs/runtime.ts';
+import { localStorage } from './storage.ts';
+import { startInbox, type Inbox } from './services/inbox.ts';
 
 export interface ServerOptions {
   databaseUrl: string;
@@ -28,6 +31,10 @@ export interface ServerOptions {
   seed?: boolean;
   /** Attach job handlers in this process (the default). */
   work?: boolean;
+  /** Run settings over the environment's (BLEEDWRIGHT_* variables). */
+  runs?: Partial<RunsConfig>;
+  /** Watch an inbox folder (null: no inbox). */
+  inbox?: { root: string; stableMs?: number } | null;
   logger?: Logger;
 }
 
@@ -37,6 +44,7 @@ export interface RunningServer {
   queue: Queue;
   mailCatcher: MailCatcher | null;
   demo: { workspaceId: string; accounts: DemoAccount[] } | null;
+  inbox: Inbox | null;
   close(): Promise<void>;
 }
 
@@ -48,13 +56,29 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
   const db = createDb(opts.databaseUrl);
   await migrateLatest(db);
   const demo = opts.seed ? await seedDemo(db) : null;
-  const queue = await startQueue({ databaseUrl: opts.databaseUrl, work: opts.work, onError: (err) => logger.error({ err }, 'pg-boss') });
   const mailCatcher = 'catcherPort' in opts.mail ? await startMailCatcher({ port: opts.mail.catcherPort }) : null;
   const mailer = createSmtpMailer({
     host: 'catcherPort' in opts.mail ? '127.0.0.1' : opts.mail.smtpHost,
     port: mailCatcher ? mailCatcher.port : (opts.mail as { smtpPort: number }).smtpPort,
     from: opts.mailFrom ?? 'Bleedwright <no-reply@bleedwright.example.test>',
   });
+  const runsConfig: RunsConfig = { ...runsConfigFromEnv(), ...opts.runs };
+  const storage = localStorage(opts.storageRoot);
+  let queueRef: Queue | null = null;
+  const send = async (name: string, data: object, options: Record<string, unknown> = {}) => {
+    if (!queueRef) throw new Error('The job queue is not started yet');
+    return queueRef.boss.send(name, data, options);
+  };
+  let publicUrl = opts.publicUrl ?? '';
+  // The run jobs read this runtime; installed before pg-boss starts working queues in this process.
+  installRunsRuntime({ db, storage, config: runsConfig, mailer, publicUrl: () => publicUrl, logger, send });
+  const queue = await startQueue({
+    databaseUrl: opts.databaseUrl,
+    work: opts.work,
+    onError: (err) => logger.error({ err }, 'pg-boss'),
+    bossOptions: { maintenanceIntervalSeconds: runsConfig.maintenanceSeconds, schema: runsConfig.bossSchema },
+  });
+  queueRef = queue;
   const sessionPool = new pg.Pool({ connectionString: opts.databaseUrl, max: 5 });
   const deps: AppDeps = {
     db,
@@ -65,6 +89,7 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
     logger,
     clock: () => new Date(),
     storageRoot: opts.storageRoot,
+    runs: { storage, config: runsConfig, send },
     config: {
       publicUrl: opts.publicUrl ?? '',
       sessionSecret: opts.sessionSecret,
@@ -83,13 +108,17 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
   });
   const url = `http://${host}:${(server.address() as AddressInfo).port}`;
   deps.config.publicUrl ||= url;
+  publicUrl = deps.config.publicUrl;
+  const inbox = opts.inbox ? startInbox({ db, storage, tmpDir: runsConfig.tmpDir, send, logger }, opts.inbox) : null;
   return {
     url,
     deps,
     queue,
     mailCatcher,
     demo,
+    inbox,
     async close() {
+      await inbox?.close();
       server.closeAllConnections();
       await new Promise<void>((resolve) => server.close(() => resolve()));
       await mailCatcher?.close();

@@ -5,7 +5,10 @@ import { createDb, migrateLatest, migrateRollbackAll, migrationSource } from '..
 import { TEST_DATA_DIR, TEST_PG_PORT } from '../global-setup';
 
 // The tables of this foundation; later migrations add more, so the check is for inclusion.
-const TABLES = ['invites', 'memberships', 'sessions', 'users', 'workspaces'];
+const TABLES = [
+  'art_set_entries', 'art_set_revisions', 'art_sets', 'invites', 'memberships', 'recipe_versions', 'recipes',
+  'render_cache', 'render_log', 'run_cards', 'run_followers', 'runs', 'sessions', 'share_links', 'users', 'workspaces',
+];
 
 async function tablesIn(url: string): Promise<string[]> {
   const client = new pg.Client({ connectionString: url });

@@ -1,0 +1,96 @@
+// run-assemble {runId}: once every card is settled, builds the deck from the card rows and has the
+// engine write PDF, sheets, proof, report and bundle into a temp folder; the files are then renamed
+// into ws/<id>/runs/<runId>/. Safe to run twice: the same rows give the same bytes, and only the
+// call that moves the run to `done` sends the mail.
+import { randomBytes } from 'node:crypto';
+import { mkdir, rm, stat } from 'node:fs/promises';
+import path from 'node:path';
+import type { OutputKind, RunOutput, RunTotals } from '../../shared/api/runs.ts';
+import { slugify } from '../../shared/naming.ts';
+import { assembleOutputs, type RenderedCard } from '../engine/run.ts';
+import { countCards, listCards, setCardFindings } from '../../server/db/run-cards.ts';
+import { transitionRun } from '../../server/db/runs.ts';
+import { storageKeys } from '../../server/storage.ts';
+import { finishRunFailed, mailRunEnded } from './finish.ts';
+import { loadRun, openRunArtSet } from './load.ts';
+import type { RunsRuntime } from './runtime.ts';
+
+export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void> {
+  const loaded = await loadRun(rt, runId);
+  if (!loaded || loaded.run.state !== 'running') return;
+  const { run, recipe } = loaded;
+  if ((await countCards(rt.db, runId)).open > 0) return; // the last render asks again
+
+  const runDir = rt.storage.path(storageKeys.runDir(run.workspace_id, run.id));
+  const workDir = `${runDir}.assemble-${randomBytes(6).toString('hex')}`;
+  try {
+    const cards = await listCards(rt.db, runId);
+    const set = await openRunArtSet(loaded);
+    const artSet = await rt.db('art_sets').where({ id: loaded.artSetId }).first('name');
+    const rendered: RenderedCard[] = cards
+      .filter((c) => c.state === 'done' || c.state === 'skipped' || c.state === 'failed')
+      .map((c) => {
+        const info = (c.info ?? { sourcePx: null, format: null, findings: c.findings }) as RenderedCard['info'] & { renderKey?: string | null };
+        return {
+          source: c.source,
+          role: c.role,
+          title: c.title,
+          pngPath: c.state === 'done' && info.renderKey ? rt.storage.path(info.renderKey) : null,
+          // Copies, so marking duplicates adds findings to this assembly only.
+          info: { ...info, findings: [...(info.findings ?? c.findings)] },
+        };
+      });
+    await mkdir(workDir, { recursive: true });
+    const report = await assembleOutputs({
+      recipe,
+      outDir: workDir,
+      source: `${slugify(artSet?.name ?? 'art-set')}.zip`,
+      cards: rendered,
+      manifest: set.manifest,
+      skippedFiles: set.skipped,
+    });
+
+    const files: Array<{ name: string | null; kind: OutputKind }> = [
+      { name: report.outputs.pdf, kind: 'pdf' },
+      { name: report.outputs.sheets, kind: 'sheets' },
+      { name: report.outputs.proof, kind: 'proof' },
+      { name: 'report.json', kind: 'report-json' },
+      { name: 'report.csv', kind: 'report-csv' },
+      { name: 'bundle.zip', kind: 'bundle' },
+    ];
+    const outputs: RunOutput[] = [];
+    for (const f of files) {
+      if (!f.name) continue;
+      const bytes = (await stat(path.join(workDir, f.name))).size;
+      await rt.storage.putFile(storageKeys.runFile(run.workspace_id, run.id, f.name), path.join(workDir, f.name));
+      outputs.push({ name: f.name, kind: f.kind, bytes });
+    }
+    const byId = new Map(cards.map((c) => [`${c.role}:${c.source}`, c.id]));
+    for (const rc of report.cards) {
+      const id = byId.get(`${rc.role}:${rc.source}`);
+      if (id) await setCardFindings(rt.db, id, rc.findings, rc.outputs);
+    }
+    const totals: RunTotals = {
+      cards: report.totals.cards,
+      pages: report.totals.pages,
+      paddingAdded: report.totals.paddingAdded,
+      findingsByCode: report.totals.findingsByCode,
+    };
+    const counts = await countCards(rt.db, runId);
+    const done = await transitionRun(rt.db, runId, ['running'], 'done', {
+      totals: JSON.stringify(totals),
+      outputs: JSON.stringify(outputs),
+      counts: JSON.stringify(counts),
+      finished_at: rt.db.fn.now(),
+    });
+    if (done) await mailRunEnded(rt, runId);
+  } catch (err) {
+    rt.logger.error({ err, runId }, 'assemble failed');
+    const reason = (err as NodeJS.ErrnoException).code === 'EACCES' || (err as NodeJS.ErrnoException).code === 'EROFS'
+      ? 'the storage folder could not be written; fix its permissions and start the run again'
+      : ((err as Error).message.split('\n')[0] ?? 'unknown error');
+    await finishRunFailed(rt, runId, `ASSEMBLE_FAILED: ${reason}`);
+  } finally {
+    await rm(workDir, { recursive: true, force: true });
+  }
+}

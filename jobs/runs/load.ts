@@ -1,0 +1,44 @@
+// Loading what a run job needs from its ids: the run, its pinned recipe version and art set zip.
+import { openArtSet, type ArtSet } from '../engine/archive.ts';
+import { recipeSchema, type Recipe } from '../../shared/recipe.ts';
+import { findRevisionById } from '../../server/db/art-sets.ts';
+import { findVersionById } from '../../server/db/recipes.ts';
+import { findRun, type RunRow } from '../../server/db/runs.ts';
+import { storageKeys } from '../../server/storage.ts';
+import type { RunsRuntime } from './runtime.ts';
+
+export interface LoadedRun {
+  run: RunRow;
+  recipe: Recipe;
+  recipeVersionId: string;
+  artSetId: string;
+  zipPath: string;
+}
+
+// Recipe versions never change once saved, so parsed settings can be kept for the process's life.
+const recipes = new Map<string, Recipe>();
+
+export async function loadRun(rt: RunsRuntime, runId: string): Promise<LoadedRun | null> {
+  const run = await findRun(rt.db, runId);
+  if (!run) return null;
+  let recipe = recipes.get(run.recipe_version_id);
+  if (!recipe) {
+    const version = await findVersionById(rt.db, run.recipe_version_id);
+    if (!version) throw new Error(`recipe version ${run.recipe_version_id} of run ${runId} is missing`);
+    recipe = recipeSchema.parse(version.settings);
+    recipes.set(run.recipe_version_id, recipe);
+  }
+  const rev = await findRevisionById(rt.db, run.art_set_revision_id);
+  if (!rev || rev.workspace_id !== run.workspace_id) throw new Error(`art set revision of run ${runId} is missing`);
+  return {
+    run,
+    recipe,
+    recipeVersionId: run.recipe_version_id,
+    artSetId: rev.art_set_id,
+    zipPath: rt.storage.path(storageKeys.blob(run.workspace_id, rev.sha256)),
+  };
+}
+
+export function openRunArtSet(loaded: LoadedRun): Promise<ArtSet> {
+  return openArtSet(loaded.zipPath);
+}

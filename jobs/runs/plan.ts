@@ -1,0 +1,79 @@
+// run-plan {runId}: lists the cards, inserts their rows (idempotently), computes what changed since the
+// previous run, takes cached renders, and fans out one run-render job per remaining card.
+import { isBleedwrightError } from '../../shared/errors.ts';
+import type { RunDiff } from '../../shared/api/runs.ts';
+import { cardSources } from '../engine/run.ts';
+import { listEntries } from '../../server/db/art-sets.ts';
+import { findCached } from '../../server/db/render-cache.ts';
+import { insertCards, listCards, settleCard } from '../../server/db/run-cards.ts';
+import { transitionRun, updateRun } from '../../server/db/runs.ts';
+import { finishRunFailed } from './finish.ts';
+import { loadRun, openRunArtSet } from './load.ts';
+import { refreshProgress } from './progress.ts';
+import type { RunsRuntime } from './runtime.ts';
+
+/** Changes by source path: added, changed (other bytes), removed; unchanged counted. */
+export function diffCards(previous: ReadonlyArray<{ source: string; source_sha256: string }> | null, current: ReadonlyArray<{ source: string; source_sha256: string }>, previousRunId: string | null): RunDiff {
+  if (!previous) return { previousRunId: null, added: [], changed: [], removed: [], unchanged: 0 };
+  const before = new Map(previous.map((c) => [c.source, c.source_sha256]));
+  const now = new Map(current.map((c) => [c.source, c.source_sha256]));
+  const diff: RunDiff = { previousRunId, added: [], changed: [], removed: [], unchanged: 0 };
+  for (const [source, sha] of now) {
+    const old = before.get(source);
+    if (old === undefined) diff.added.push(source);
+    else if (old !== sha) diff.changed.push(source);
+    else diff.unchanged++;
+  }
+  for (const source of before.keys()) if (!now.has(source)) diff.removed.push(source);
+  return diff;
+}
+
+export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
+  const loaded = await loadRun(rt, runId);
+  if (!loaded) return;
+  const { run, recipe } = loaded;
+  if (run.state !== 'queued' && run.state !== 'running') return;
+  await transitionRun(rt.db, runId, ['queued'], 'running', { started_at: rt.db.fn.now() });
+
+  let sources;
+  try {
+    sources = cardSources(await openRunArtSet(loaded), recipe);
+  } catch (err) {
+    if (!isBleedwrightError(err)) throw err;
+    await finishRunFailed(rt, runId, `${err.code}: ${err.message}`);
+    return;
+  }
+  const revisionId = run.art_set_revision_id;
+  const shaByPath = new Map((await listEntries(rt.db, revisionId)).map((e) => [e.path, e.sha256]));
+  await insertCards(
+    rt.db,
+    runId,
+    sources.map((s, i) => ({ seq: i + 1, source: s.source, role: s.role, title: s.title, source_sha256: shaByPath.get(s.source) ?? '' })),
+  );
+  const cards = await listCards(rt.db, runId);
+  const previous = run.previous_run_id ? await listCards(rt.db, run.previous_run_id) : null;
+  await updateRun(rt.db, runId, { diff: JSON.stringify(diffCards(previous, cards, run.previous_run_id)) });
+
+  // Cards whose (source bytes, name, recipe version) were rendered before are taken from the cache.
+  const toRender: string[] = [];
+  for (const card of cards) {
+    if (card.state !== 'pending' && card.state !== 'rendering') continue;
+    const hit = await findCached(rt.db, {
+      workspace_id: run.workspace_id,
+      recipe_version_id: loaded.recipeVersionId,
+      source_sha256: card.source_sha256,
+      source_path: card.source,
+    });
+    if (hit && (!hit.storage_key || (await rt.storage.exists(hit.storage_key)))) {
+      const info = hit.info as { findings: [] };
+      await settleCard(rt.db, card.id, { state: hit.storage_key ? 'done' : 'skipped', cached: true, outputs: [], info: info as never, findings: info.findings });
+    } else {
+      toRender.push(card.id);
+    }
+  }
+  for (const cardId of toRender) {
+    // A duplicate send (a retried plan) is dropped by the singleton key; the render is idempotent anyway.
+    await rt.send('run-render', { cardId }, { singletonKey: cardId });
+  }
+  await refreshProgress(rt, runId);
+}

@@ -1,0 +1,62 @@
+// run-render {cardId}: conforms one card with the engine into the workspace's render cache (temp name,
+// then rename: a retry writes the same bytes), then settles the card row unless a newer attempt did.
+import { randomBytes } from 'node:crypto';
+import { mkdir, rm } from 'node:fs/promises';
+import path from 'node:path';
+import { isBleedwrightError } from '../../shared/errors.ts';
+import { makeFinding } from '../../shared/findings.ts';
+import { renderCard } from '../engine/run.ts';
+import { logRender, upsertCached } from '../../server/db/render-cache.ts';
+import { claimCard, findCard, settleCard } from '../../server/db/run-cards.ts';
+import { renderCacheName, storageKeys } from '../../server/storage.ts';
+import { loadRun, openRunArtSet } from './load.ts';
+import { refreshProgress } from './progress.ts';
+import type { RunsRuntime } from './runtime.ts';
+
+export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttempt: boolean): Promise<void> {
+  const card = await findCard(rt.db, cardId);
+  if (!card || (card.state !== 'pending' && card.state !== 'rendering')) return;
+  const loaded = await loadRun(rt, card.run_id);
+  if (!loaded) return;
+  const { run, recipe } = loaded;
+  if (run.state !== 'running') {
+    // Canceled (or failed) while queued: this card will not be rendered.
+    await rt.db('run_cards').where({ id: cardId }).whereIn('state', ['pending', 'rendering']).update({ state: 'canceled', finished_at: rt.db.fn.now() });
+    await refreshProgress(rt, run.id);
+    return;
+  }
+  if (!(await claimCard(rt.db, cardId))) return;
+
+  const cacheKey = {
+    workspace_id: run.workspace_id,
+    recipe_version_id: loaded.recipeVersionId,
+    source_sha256: card.source_sha256,
+    source_path: card.source,
+  };
+  const key = storageKeys.render(run.workspace_id, loaded.recipeVersionId, renderCacheName(card.source_sha256, card.source));
+  const tmp = `${rt.storage.path(key)}.${randomBytes(6).toString('hex')}.part`;
+  try {
+    await mkdir(path.dirname(tmp), { recursive: true });
+    let rendered;
+    try {
+      rendered = await renderCard({ set: await openRunArtSet(loaded), source: card.source, role: card.role, title: card.title, recipe, pngPath: tmp });
+    } catch (err) {
+      // The archive refused this entry (size limits and the like): the card is skipped, the run goes on.
+      if (!isBleedwrightError(err)) throw err;
+      rendered = { pngPath: null, info: { sourcePx: null, format: null, findings: [makeFinding('UNREADABLE', {}, { reason: err.message })] } };
+    }
+    if (rendered.pngPath) await rt.storage.putFile(key, tmp);
+    const info = { ...rendered.info, renderKey: rendered.pngPath ? key : null };
+    await logRender(rt.db, run.id, cardId);
+    await upsertCached(rt.db, cacheKey, info, rendered.pngPath ? key : null);
+    await settleCard(rt.db, cardId, { state: rendered.pngPath ? 'done' : 'skipped', cached: false, outputs: [], info, findings: rendered.info.findings });
+  } catch (err) {
+    if (!finalAttempt) throw err;
+    // Out of retries (storage unwritable, ...): the card fails with the reason and the run goes on.
+    const reason = (err as Error).message.split('\n')[0] ?? 'unknown error';
+    await settleCard(rt.db, cardId, { state: 'failed', cached: false, outputs: [], info: null, findings: [makeFinding('UNREADABLE', {}, { reason })] });
+  } finally {
+    await rm(tmp, { force: true });
+  }
+  await refreshProgress(rt, run.id);
+}

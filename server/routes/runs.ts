@@ -1,0 +1,115 @@
+import { Router, type Response } from 'express';
+import {
+  cardImageQuerySchema,
+  cardListQuerySchema,
+  createShareBodySchema,
+  followBodySchema,
+  runListQuerySchema,
+  startRunBodySchema,
+  type RunCardsResponse,
+  type RunListResponse,
+  type RunResponse,
+  type ShareCreatedResponse,
+  type ShareListResponse,
+} from '../../shared/api/runs.ts';
+import type { Role } from '../roles.ts';
+import type { AppDeps } from '../context.ts';
+import { ANY_ROLE, requireMember } from '../middleware/auth.ts';
+import { cancelRun, cardImage, followRun, runCards, runDetail, runOutputFile, runSummaries, startRun } from '../services/runs.ts';
+import { createShare, revoke, shareList } from '../services/shares.ts';
+import { parseId } from './recipes.ts';
+
+/** Owners and makers write recipes, art sets, runs and share links; helpers read and download. */
+export const WRITERS: readonly Role[] = ['owner', 'maker'];
+
+/** Sends a stored file as a download the browser will not try to render. */
+export function sendAttachment(res: Response, path: string, name: string): Promise<void> {
+  res.setHeader('X-Content-Type-Options', 'nosniff');
+  res.setHeader('Cache-Control', 'private, no-store');
+  return new Promise((resolve, reject) => res.download(path, name, { dotfiles: 'allow' }, (err) => (err && !res.headersSent ? reject(err) : resolve())));
+}
+
+/** Mounted at /api/workspaces/:workspaceId/runs. */
+export function runRoutes(deps: AppDeps): Router {
+  const router = Router({ mergeParams: true });
+  const { db } = deps;
+  const { storage, send } = deps.runs;
+  const read = requireMember(db, ANY_ROLE);
+  const write = requireMember(db, WRITERS);
+  const runId = (raw: unknown) => parseId(raw, 'That run');
+  const detail = async (ws: string, id: string, user: string): Promise<RunResponse> => ({ run: await runDetail(db, ws, id, user) });
+
+  router.get('/', read, async (req, res) => {
+    const { limit } = runListQuerySchema.parse(req.query);
+    const body: RunListResponse = { runs: await runSummaries(db, req.member!.workspaceId, limit) };
+    res.json(body);
+  });
+
+  router.post('/', write, async (req, res) => {
+    const input = startRunBodySchema.parse(req.body);
+    const id = await startRun({ db, send }, { workspaceId: req.member!.workspaceId, userId: req.member!.userId, ...input });
+    res.status(201).json(await detail(req.member!.workspaceId, id, req.member!.userId));
+  });
+
+  router.get('/:runId', read, async (req, res) => {
+    res.json(await detail(req.member!.workspaceId, runId(req.params.runId), req.member!.userId));
+  });
+
+  router.get('/:runId/cards', read, async (req, res) => {
+    const { severity } = cardListQuerySchema.parse(req.query);
+    const body: RunCardsResponse = { cards: await runCards(db, req.member!.workspaceId, runId(req.params.runId), severity) };
+    res.json(body);
+  });
+
+  router.get('/:runId/cards/:cardId/image', read, async (req, res) => {
+    const { size } = cardImageQuerySchema.parse(req.query);
+    const img = await cardImage({ db, storage }, req.member!.workspaceId, runId(req.params.runId), parseId(req.params.cardId, 'That card'), size);
+    res.setHeader('Cache-Control', 'private, max-age=3600');
+    res.type(img.type).sendFile(img.path);
+  });
+
+  router.post('/:runId/cancel', write, async (req, res) => {
+    const id = runId(req.params.runId);
+    await cancelRun(db, req.member!.workspaceId, id, deps.clock());
+    res.json(await detail(req.member!.workspaceId, id, req.member!.userId));
+  });
+
+  // Any member may follow a run (to get its end-of-run mail); following changes nothing else.
+  router.post('/:runId/follow', read, async (req, res) => {
+    const id = runId(req.params.runId);
+    const { follow } = followBodySchema.parse(req.body);
+    await followRun(db, req.member!.workspaceId, id, req.member!.userId, follow);
+    res.json(await detail(req.member!.workspaceId, id, req.member!.userId));
+  });
+
+  router.get('/:runId/files/:name', read, async (req, res) => {
+    const file = await runOutputFile({ db, storage }, req.member!.workspaceId, runId(req.params.runId), String(req.params.name));
+    await sendAttachment(res, file.path, file.name);
+  });
+
+  router.get('/:runId/shares', write, async (req, res) => {
+    const body: ShareListResponse = { shares: await shareList(db, req.member!.workspaceId, runId(req.params.runId)) };
+    res.json(body);
+  });
+
+  router.post('/:runId/shares', write, async (req, res) => {
+    const input = createShareBodySchema.parse(req.body);
+    const share = await createShare(db, {
+      workspaceId: req.member!.workspaceId,
+      runId: runId(req.params.runId),
+      userId: req.member!.userId,
+      ...input,
+      now: deps.clock(),
+      publicUrl: deps.config.publicUrl,
+    });
+    const body: ShareCreatedResponse = { share };
+    res.status(201).json(body);
+  });
+
+  router.delete('/:runId/shares/:shareId', write, async (req, res) => {
+    await revoke(db, req.member!.workspaceId, runId(req.params.runId), parseId(req.params.shareId, 'That share link'), deps.clock());
+    res.status(204).end();
+  });
+
+  return router;
+}

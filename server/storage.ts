@@ -1,0 +1,95 @@
+// Files of every workspace live under one storage root, always behind keys that start with
+// `ws/<workspaceId>/`. Writes go to a temp name and are renamed into place, so a reader never sees half a
+// file and a retried write of the same bytes changes nothing. Swappable in tests (an interface, not fs).
+import { createHash, randomBytes } from 'node:crypto';
+import { createReadStream, createWriteStream } from 'node:fs';
+import { mkdir, rename, rm, stat, copyFile } from 'node:fs/promises';
+import path from 'node:path';
+import { Readable } from 'node:stream';
+import { pipeline } from 'node:stream/promises';
+
+export interface Storage {
+  readonly root: string;
+  /** Writes bytes or a stream under `key` (temp file, then rename). */
+  put(key: string, data: Buffer | Readable): Promise<void>;
+  /** Moves a local file into `key` (rename when on the same disk, else copy then rename). */
+  putFile(key: string, file: string): Promise<void>;
+  get(key: string): Readable;
+  /** Local path of `key` (the engine and sharp read files by path). */
+  path(key: string): string;
+  exists(key: string): Promise<boolean>;
+  size(key: string): Promise<number>;
+  remove(key: string): Promise<void>;
+}
+
+const KEY = /^ws\/[0-9a-f-]{36}\/[A-Za-z0-9._\-/]+$/;
+
+/** Refuses keys outside the workspace layout (no `..`, no absolute paths, no empty parts). */
+export function checkKey(key: string): string {
+  if (!KEY.test(key) || key.split('/').some((p) => p === '' || p === '.' || p === '..')) {
+    throw new Error(`Storage key "${key}" is not a workspace key`);
+  }
+  return key;
+}
+
+export const storageKeys = {
+  blob: (workspaceId: string, sha256: string) => `ws/${workspaceId}/blobs/${sha256}`,
+  render: (workspaceId: string, recipeVersionId: string, cacheName: string) => `ws/${workspaceId}/renders/${recipeVersionId}/${cacheName}.png`,
+  runFile: (workspaceId: string, runId: string, name: string) => `ws/${workspaceId}/runs/${runId}/${name}`,
+  runDir: (workspaceId: string, runId: string) => `ws/${workspaceId}/runs/${runId}`,
+};
+
+/** The render cache's file name: the source bytes' hash plus a short hash of the path (turn rules match names). */
+export function renderCacheName(sourceSha256: string, sourcePath: string): string {
+  return `${sourceSha256}-${createHash('sha256').update(sourcePath).digest('hex').slice(0, 16)}`;
+}
+
+export function localStorage(root: string): Storage {
+  const abs = path.resolve(root);
+  const full = (key: string) => path.join(abs, checkKey(key));
+  const temp = (target: string) => `${target}.${process.pid}.${randomBytes(6).toString('hex')}.tmp`;
+  return {
+    root: abs,
+    async put(key, data) {
+      const target = full(key);
+      await mkdir(path.dirname(target), { recursive: true });
+      const tmp = temp(target);
+      try {
+        await pipeline(Buffer.isBuffer(data) ? Readable.from([data]) : data, createWriteStream(tmp));
+        await rename(tmp, target);
+      } catch (err) {
+        await rm(tmp, { force: true });
+        throw err;
+      }
+    },
+    async putFile(key, file) {
+      const target = full(key);
+      await mkdir(path.dirname(target), { recursive: true });
+      try {
+        await rename(file, target);
+      } catch (err) {
+        if ((err as NodeJS.ErrnoException).code !== 'EXDEV') throw err;
+        const tmp = temp(target);
+        await copyFile(file, tmp);
+        await rename(tmp, target);
+        await rm(file, { force: true });
+      }
+    },
+    get: (key) => createReadStream(full(key)),
+    path: full,
+    async exists(key) {
+      try {
+        await stat(full(key));
+        return true;
+      } catch {
+        return false;
+      }
+    },
+    async size(key) {
+      return (await stat(full(key))).size;
+    },
+    async remove(key) {
+      await rm(full(key), { recursive: true, force: true });
+    },
+  };
+}
