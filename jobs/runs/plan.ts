@@ -9,7 +9,7 @@ import { insertCards, listCards, settleCard } from '../../server/db/run-cards.ts
 import { transitionRun, updateRun } from '../../server/db/runs.ts';
 import { finishRunFailed } from './finish.ts';
 import { loadRun, openRunArtSet } from './load.ts';
-import { refreshProgress } from './progress.ts';
+import { refreshProgress, renderJobOptions } from './progress.ts';
 import type { RunsRuntime } from './runtime.ts';
 
 /** Changes by source path: added, changed (other bytes), removed; unchanged counted. */
@@ -73,7 +73,7 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   }
   for (const cardId of toRender) {
     // A duplicate send (a retried plan) is dropped by the singleton key; the render is idempotent anyway.
-    await rt.send('run-render', { cardId }, { singletonKey: cardId });
+    await rt.send('run-render', { cardId }, { singletonKey: cardId, ...renderJobOptions(rt) });
   }
   await refreshProgress(rt, runId);
 }

@@ -11,5 +11,10 @@ export async function refreshProgress(rt: RunsRuntime, runId: string): Promise<v
   await updateRun(rt.db, runId, { counts: JSON.stringify(counts) });
   if (counts.open > 0) return;
   const run = await rt.db('runs').where({ id: runId }).first('state');
-  if (run?.state === 'running') await rt.send('run-assemble', { runId }, { singletonKey: runId });
+  if (run?.state === 'running') await rt.send('run-assemble', { runId }, { singletonKey: runId, retryLimit: 3, retryDelay: 2, expireInSeconds: rt.config.assembleExpireSeconds });
+}
+
+/** Set on every send (not only on the queue), so each process's configured expiry applies. */
+export function renderJobOptions(rt: RunsRuntime) {
+  return { retryLimit: 3, retryDelay: 1, expireInSeconds: rt.config.renderExpireSeconds };
 }

@@ -1,0 +1,124 @@
+// Worker processes (`npm run worker`, here `node --import tsx jobs/worker-main.ts`) against the same
+// database, storage and job schema as the app: one is killed with SIGKILL mid-run and another finishes
+// the run with every card exactly once; two together finish a run with no card rendered twice.
+import { spawn, execFileSync, type ChildProcess } from 'node:child_process';
+import { readFile } from 'node:fs/promises';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import type { RunningServer } from '../../server/server.ts';
+import { storageKeys } from '../../server/storage.ts';
+import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
+import { cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+
+let server: RunningServer;
+let fx: WorkspaceFixture;
+let api: string;
+let stop: () => Promise<void>;
+let storageRoot: string;
+let bossSchema: string;
+const children: ChildProcess[] = [];
+
+// Short expiry so the killed worker's active jobs come back within seconds (pg-boss 10: an active job
+// whose worker died is retried by maintenance once expireIn has passed).
+const EXPIRE_SECONDS = 3;
+
+beforeAll(async () => {
+  ({ server, stop, storageRoot, bossSchema } = await startRunsServer({ work: false, runs: { renderExpireSeconds: EXPIRE_SECONDS } }));
+  fx = await createWorkspaceFixture(server.deps.db, server.url);
+  api = `/api/workspaces/${fx.workspaceId}`;
+});
+afterEach(() => {
+  for (const c of children.splice(0)) if (c.exitCode === null && c.signalCode === null) c.kill('SIGKILL');
+});
+afterAll(() => stop?.());
+
+async function startWorker(): Promise<ChildProcess> {
+  const child = spawn(process.execPath, ['--import', 'tsx', 'jobs/worker-main.ts'], {
+    env: {
+      ...process.env,
+      DATABASE_URL: process.env.DATABASE_URL,
+      BLEEDWRIGHT_STORAGE: storageRoot,
+      BLEEDWRIGHT_BOSS_SCHEMA: bossSchema,
+      BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher!.port),
+      BLEEDWRIGHT_PUBLIC_URL: server.url,
+      BLEEDWRIGHT_RENDER_EXPIRE_SECONDS: String(EXPIRE_SECONDS),
+      BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5',
+      BLEEDWRIGHT_JOB_MAINTENANCE_SECONDS: '1',
+      BLEEDWRIGHT_WORKER_CONCURRENCY: '2',
+      LOG_LEVEL: 'warn',
+    },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  children.push(child);
+  let errors = '';
+  child.stderr!.on('data', (d) => (errors += d));
+  await new Promise<void>((resolve, reject) => {
+    const timer = setTimeout(() => reject(new Error(`worker did not start: ${errors}`)), 30_000);
+    child.stdout!.on('data', (d) => {
+      if (String(d).includes('worker ready')) {
+        clearTimeout(timer);
+        resolve();
+      }
+    });
+    child.once('exit', (code) => reject(new Error(`worker exited with ${code}: ${errors}`)));
+  });
+  return child;
+}
+
+async function queuedRun(name: string, cards: number, dpi: number) {
+  const recipe = (await fx.actors.maker.post(`${api}/recipes`, { settings: smallRecipe(name, { dpi }) })).body.recipe;
+  const zip = await readFile(await zipOf(await cardSet(cards)));
+  const art = (await upload(fx.actors.maker, `${api}/art-sets`, [{ field: 'file', name: `${name}.zip`, data: zip }])).body.artSet;
+  const start = await fx.actors.maker.post(`${api}/runs`, { recipeId: recipe.id, artSetId: art.id });
+  expect(start.status).toBe(201);
+  return start.body.run.id as string;
+}
+
+function pdfPages(file: string): number {
+  return Number(/^Pages:\s+(\d+)$/m.exec(execFileSync('pdfinfo', [file], { encoding: 'utf8' }))![1]);
+}
+
+describe('worker processes', () => {
+  it('finish a run after one is killed with SIGKILL mid-run, every card exactly once', async () => {
+    const CARDS = 24;
+    const runId = await queuedRun('Killed worker deck', CARDS, 300);
+    const first = await startWorker();
+    // Kill once some cards are done and others are still open.
+    const partway = await waitForRun(fx.actors.maker, fx.workspaceId, runId, 60_000, (r) => r.progress.done >= 3 || r.state === 'done');
+    first.kill('SIGKILL');
+    await new Promise((r) => first.once('exit', r));
+    expect(partway.state).toBe('running');
+    expect(partway.progress.done).toBeLessThan(CARDS);
+
+    await startWorker();
+    const run = await waitForRun(fx.actors.maker, fx.workspaceId, runId, 90_000);
+    expect(run.state).toBe('done');
+    expect(run.progress).toMatchObject({ total: CARDS, done: CARDS, skipped: 0, failed: 0 });
+
+    const rows = await server.deps.db('run_cards').where({ run_id: runId }).select('source', 'role', 'state');
+    expect(rows).toHaveLength(CARDS);
+    expect(new Set(rows.map((r) => `${r.role}:${r.source}`)).size).toBe(CARDS);
+    expect(rows.every((r) => r.state === 'done')).toBe(true);
+
+    const ws = fx.workspaceId;
+    const pdf = run.outputs.find((o: { kind: string }) => o.kind === 'pdf').name;
+    expect(pdfPages(server.deps.runs.storage.path(storageKeys.runFile(ws, runId, pdf)))).toBe(CARDS);
+    const report = JSON.parse(await readFile(server.deps.runs.storage.path(storageKeys.runFile(ws, runId, 'report.json')), 'utf8'));
+    expect(report.cards).toHaveLength(CARDS);
+    expect(new Set(report.cards.map((c: { source: string }) => c.source)).size).toBe(CARDS);
+    expect(report.outputs.singles).toBe(CARDS);
+  });
+
+  it('two workers together finish a run with no card rendered twice', async () => {
+    const CARDS = 20;
+    await Promise.all([startWorker(), startWorker()]);
+    const runId = await queuedRun('Two workers deck', CARDS, 200);
+    const run = await waitForRun(fx.actors.maker, fx.workspaceId, runId, 90_000);
+    expect(run.state).toBe('done');
+    const renders = await server.deps.db('render_log').where({ run_id: runId }).select('card_id', 'pid');
+    expect(renders).toHaveLength(CARDS);
+    expect(new Set(renders.map((r) => r.card_id)).size).toBe(CARDS);
+    const pids = new Set(renders.map((r) => r.pid));
+    expect(pids.has(process.pid)).toBe(false); // the app process does not work jobs here
+    expect((await server.deps.db('run_cards').where({ run_id: runId, state: 'done' })).length).toBe(CARDS);
+  });
+});
