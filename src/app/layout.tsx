@@ -66,6 +66,12 @@ export function WorkspaceLayout() {
           <NavLink to="runs" className={navClass}>
             Runs
           </NavLink>
+          <NavLink to="plan" className={navClass}>
+            Print planner
+          </NavLink>
+          <NavLink to="price-sheets" className={navClass}>
+            Price sheets
+          </NavLink>
           {role && role !== 'helper' && (
             <NavLink to="members" className={navClass}>
               Members

@@ -11,7 +11,12 @@ import { RunPage } from '../features/runs/components/run-page';
 import { RunsPage } from '../features/runs/components/runs-page';
 import { PublicSharePage } from '../features/shares/components/public-share-page';
 import { RootRedirect } from '../features/workspaces/components/root-redirect';
-import { WorkspaceHome } from '../features/workspaces/components/workspace-home';
+import { HomePage } from '../features/home/components/home-page';
+import { RecipePreviewPage } from '../features/recipe-preview/components/recipe-preview-page';
+import { PlannerPage } from '../features/planner/components/planner-page';
+import { PriceSheetsPage } from '../features/price-sheets/components/price-sheets-page';
+import { DeckPage } from '../features/deck/components/deck-page';
+import { ProofViewerPage } from '../features/proof-viewer/components/proof-viewer-page';
 import { RequireSession, WorkspaceLayout } from './layout';
 
 export const router = createBrowserRouter([
@@ -27,7 +32,7 @@ export const router = createBrowserRouter([
         path: '/w/:workspaceId',
         element: <WorkspaceLayout />,
         children: [
-          { index: true, element: <WorkspaceHome /> },
+          { index: true, element: <HomePage /> },
           { path: 'members', element: <MembersPage /> },
           { path: 'mail', element: <MailPage /> },
           { path: 'recipes', element: <RecipesPage /> },
@@ -37,6 +42,12 @@ export const router = createBrowserRouter([
           { path: 'art-sets/:artSetId', element: <ArtSetPage /> },
           { path: 'runs', element: <RunsPage /> },
           { path: 'runs/:runId', element: <RunPage /> },
+          { path: 'runs/:runId/deck', element: <DeckPage /> },
+          { path: 'runs/:runId/plan', element: <PlannerPage /> },
+          { path: 'runs/:runId/cards/:cardId', element: <ProofViewerPage /> },
+          { path: 'preview', element: <RecipePreviewPage /> },
+          { path: 'plan', element: <PlannerPage /> },
+          { path: 'price-sheets', element: <PriceSheetsPage /> },
         ],
       },
     ],
