@@ -33,7 +33,18 @@ export async function startQueue(opts: {
     await boss.createQueue(job.name, { name: job.name, ...queueOptions });
     if (opts.work === false) continue;
     const { workers = 1, ...workOptions } = job.work ?? {};
-    for (let i = 0; i < workers; i++) await boss.work(job.name, workOptions, job.handler as PgBoss.WorkHandler<object>);
+    for (let i = 0; i < workers; i++) {
+      // pg-boss 10 waits out the polling interval after every job, even with more queued; waking the
+      // worker after a job that did something keeps a busy queue draining at full speed.
+      let workerId = '';
+      workerId = await boss.work(job.name, workOptions, async (jobs: PgBoss.Job<object>[]) => {
+        try {
+          return await job.handler(jobs);
+        } finally {
+          if (jobs.length > 0 && workerId) boss.notifyWorker(workerId);
+        }
+      });
+    }
   }
   return {
     boss,
