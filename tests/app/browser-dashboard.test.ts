@@ -1,0 +1,199 @@
+// The dashboard in real Chromium against the real server, workers and built client: the card
+// preview changes with the preset and the unit, a finished run is inspected card by card with the
+// keyboard, its deck is seen by press sheets, and a print order is priced from a price sheet that is
+// entered through the page. A screenshot of each main page is saved to .data/screenshots/.
+import { randomBytes } from 'node:crypto';
+import { mkdirSync } from 'node:fs';
+import { mkdtemp, readFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import pg from 'pg';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { chromium, type Browser, type Page } from 'playwright-core';
+import { startServer, type RunningServer } from '../../server/server.ts';
+import { createLogger } from '../../server/logger.ts';
+import { TEST_PASSWORD, createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
+import { cardPng, cardSet, smallRecipe, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+
+const SCREENSHOTS = resolve('.data/screenshots');
+
+let server: RunningServer;
+let browser: Browser;
+let fx: WorkspaceFixture;
+let runId: string;
+let cardIds: string[];
+// Its own job schema, so workers of other test servers on the shared cluster never take its jobs.
+const bossSchema = `pgboss_d${randomBytes(4).toString('hex')}`;
+
+beforeAll(async () => {
+  const base = await mkdtemp(join(tmpdir(), 'bw-dashboard-'));
+  server = await startServer({
+    databaseUrl: process.env.DATABASE_URL!,
+    port: 0,
+    mail: { catcherPort: 0 },
+    clientDir: resolve('dist'),
+    storageRoot: join(base, 'storage'),
+    sessionSecret: randomBytes(16).toString('hex'),
+    seed: false,
+    logger: createLogger('silent'),
+    runs: { tmpDir: join(base, 'tmp'), pollingSeconds: 0.5, maintenanceSeconds: 1, bossSchema },
+  });
+  fx = await createWorkspaceFixture(server.deps.db, server.url);
+  const api = `/api/workspaces/${fx.workspaceId}`;
+  // A finished run to inspect: 5 fronts (card 3 far too small for 100 DPI) and a back printed last,
+  // padded with blanks to sheets of 4, so 5 faces become 8.
+  const recipe = await fx.actors.maker.post(`${api}/recipes`, {
+    settings: smallRecipe('Lantern deck', { back: { art: 'back.png', placement: 'last' }, sheet: { multiple: 4, pad: 'blank' } }),
+  });
+  expect(recipe.status).toBe(201);
+  const files = { ...(await cardSet(5)), 'card-03.png': await cardPng(3, 0, { w: 100, h: 140 }), 'back.png': await cardPng(99, 2) };
+  const art = await upload(fx.actors.maker, `${api}/art-sets`, [{ field: 'file', name: 'art.zip', data: await readFile(await zipOf(files)) }], { name: 'Lantern art' });
+  expect(art.status).toBe(201);
+  const start = await fx.actors.maker.post(`${api}/runs`, { recipeId: recipe.body.recipe.id, artSetId: art.body.artSet.id });
+  expect(start.status).toBe(201);
+  runId = start.body.run.id;
+  const finished = await waitForRun(fx.actors.maker, fx.workspaceId, runId);
+  expect(finished.error ?? finished.state).toBe("done");
+  const cards = (await fx.actors.maker.get(`${api}/runs/${runId}/cards`)).body.cards as Array<{ id: string; seq: number }>;
+  cardIds = cards.sort((a, b) => a.seq - b.seq).map((c) => c.id);
+  expect(cardIds).toHaveLength(6);
+
+  browser = await chromium.launch({
+    executablePath: '/usr/bin/chromium',
+    args: ['--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'],
+  });
+  mkdirSync(SCREENSHOTS, { recursive: true });
+}, 180_000);
+afterAll(async () => {
+  await browser?.close();
+  await server?.close();
+  const client = new pg.Client({ connectionString: process.env.DATABASE_URL });
+  await client.connect();
+  await client.query(`drop schema if exists ${bossSchema} cascade`);
+  await client.end();
+});
+
+async function signIn(page: Page, email: string) {
+  await page.goto(`${server.url}/w/${fx.workspaceId}`);
+  await page.waitForURL(/\/sign-in/);
+  await page.getByLabel('E-mail').fill(email);
+  await page.getByLabel('Password').fill(TEST_PASSWORD);
+  await page.getByRole('button', { name: 'Sign in' }).click();
+  await page.getByRole('heading', { level: 1 }).waitFor();
+}
+
+const text = (page: Page, testId: string) => page.getByTestId(testId).first().textContent();
+
+describe('browser: dashboard and print planning', () => {
+  it('home, card preview, proof viewer, deck and planner work for a maker', { timeout: 240_000 }, async () => {
+    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const page = await context.newPage();
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    await signIn(page, fx.users.maker.email);
+    const ws = `${server.url}/w/${fx.workspaceId}`;
+
+    // Home: the run with its state and findings; the guide shows the steps left.
+    await page.getByTestId('home-runs').getByText('Lantern deck on Lantern art').waitFor();
+    const guide = page.getByTestId('first-run-guide');
+    expect(await guide.locator('[data-step="recipe"]').getAttribute('data-done')).toBe('true');
+    expect(await guide.locator('[data-step="proof"]').getAttribute('data-done')).toBe('false');
+    expect(await page.getByTestId('home-runs').getByLabel(/1 errors|0 errors/).count()).toBe(1);
+    await page.screenshot({ path: `${SCREENSHOTS}/home.png`, fullPage: true });
+
+    // Card preview: poker in inches, then tarot, then millimetres.
+    await page.goto(`${ws}/preview`);
+    await page.getByTestId('recipe-preview').waitFor();
+    expect(await text(page, 'preview-dim-width')).toBe('2.5 in'); // poker 2.5 x 3.5 in: common practice
+    expect(await text(page, 'preview-dim-height')).toBe('3.5 in');
+    expect(await text(page, 'preview-bleed')).toBe('0.125 in');
+    await page.getByLabel('Trim size').selectOption('tarot');
+    expect(await text(page, 'preview-dim-width')).toBe('2.756 in'); // 70 mm / 25.4
+    expect(await page.getByTestId('preview-svg').getAttribute('data-trim-mm')).toBe('70.00x120.00');
+    await page.getByLabel('Units').selectOption('mm');
+    expect(await text(page, 'preview-dim-width')).toBe('70 mm');
+    expect(await text(page, 'preview-dim-height')).toBe('120 mm');
+    expect(await text(page, 'preview-bleed')).toBe('3.18 mm'); // 1/8 in = 3.175 mm, typed value rounded to 0.01 mm
+    await page.getByLabel('Bleed (mm)').fill('3');
+    expect(await text(page, 'preview-page')).toBe('76 mm x 126 mm');
+    await page.getByLabel('Landscape art', { exact: true }).selectOption('counterclockwise');
+    expect(await page.getByTestId('preview-turn-result').getAttribute('data-turn')).toBe('counterclockwise');
+    await page.screenshot({ path: `${SCREENSHOTS}/card-preview.png`, fullPage: true });
+
+    // Deck by press sheets: 5 faces padded to 8 at 4 a sheet, then the back.
+    await page.goto(`${ws}/runs/${runId}/deck`);
+    await page.getByTestId('deck-view').waitFor();
+    expect(await page.getByTestId('deck-view').getAttribute('data-sheets')).toBe('3');
+    expect(await page.locator('[data-testid="deck-slot"][data-padding="true"]').count()).toBe(3);
+    expect(await page.locator('[data-testid="deck-slot"][data-kind="back"]').count()).toBe(1);
+    expect(await page.getByRole('region', { name: 'Press sheet 2: slots 5 to 8' }).count()).toBe(1);
+    expect(await page.getByRole('region', { name: 'Press sheet 3: slots 9 to 9' }).getByText('3 short of 4').count()).toBe(1);
+    await page.screenshot({ path: `${SCREENSHOTS}/deck.png`, fullPage: true });
+
+    // Proof viewer: open the first card from the deck, step with the keyboard, toggle lines with g.
+    await page.locator('[data-testid="deck-slot"]').first().click();
+    await page.waitForURL(new RegExp(`/runs/${runId}/cards/${cardIds[0]}$`));
+    const card = page.getByTestId('proof-card');
+    await card.waitFor();
+    expect(await card.getAttribute('data-lines')).toBe('true');
+    expect(await page.getByTestId('card-lines').count()).toBe(1);
+    await page.keyboard.press('g');
+    expect(await card.getAttribute('data-lines')).toBe('false');
+    expect(await page.getByTestId('card-lines').count()).toBe(0);
+    await page.getByRole('button', { name: 'Trim, bleed and safe lines' }).click();
+    expect(await card.getAttribute('data-lines')).toBe('true');
+    await page.keyboard.press('ArrowRight');
+    await page.keyboard.press('ArrowRight');
+    await page.waitForURL(new RegExp(`/cards/${cardIds[2]}$`));
+    expect(await text(page, 'proof-position')).toContain('Card 3 of 6: card-03.png');
+    // The small card's findings are beside it: 100 px across 2.5 in is 40 DPI.
+    await page.getByTestId('card-findings').getByText('VERY_LOW_DPI').waitFor();
+    expect(await text(page, 'card-place')).toBe('Slot 3 of 9.');
+    expect(await page.getByTestId('card-back').textContent()).toContain('slot 9 of 9');
+    const img = page.getByRole('img', { name: /Card 3, card-03.png/ });
+    await expect.poll(() => img.evaluate((el: HTMLImageElement) => el.complete && el.naturalWidth)).toBe(275); // poker + 1/8 in bleed at 100 DPI
+    await page.screenshot({ path: `${SCREENSHOTS}/proof-viewer.png`, fullPage: true });
+    await page.keyboard.press('ArrowLeft');
+    await page.waitForURL(new RegExp(`/cards/${cardIds[1]}$`));
+
+    // A price sheet entered through the page (invented prices).
+    await page.goto(`${ws}/price-sheets`);
+    await page.getByRole('button', { name: 'New price sheet' }).click();
+    await page.getByLabel('Sheet name').fill('Invented Press');
+    await page.getByLabel('Currency').selectOption('EUR');
+    await page.getByLabel('Size 1: price per set').fill('4');
+    await page.getByLabel('Size 2: price per set').fill('7.5');
+    await page.getByLabel('Size 3: price per set').fill('12');
+    await page.getByLabel('Setup fee', { exact: true }).fill('20');
+    await page.getByLabel('Setup fee waived from (sets)').fill('10');
+    await page.getByRole('button', { name: 'Save price sheet' }).click();
+    await page.getByText('Setup fee €20.00, waived from 10 sets.').waitFor();
+    await page.screenshot({ path: `${SCREENSHOTS}/price-sheets.png`, fullPage: true });
+
+    // Plan the run's print: its 5 faces at 4 a sheet, then at 18, 1 set then 10.
+    await page.goto(`${ws}/runs/${runId}/plan`);
+    await page.getByTestId('plan-run-faces').waitFor();
+    expect(await text(page, 'plan-cards')).toBe('5');
+    expect(await text(page, 'plan-padded')).toBe('8');
+    await page.getByLabel('Sheet multiple').selectOption('18');
+    expect(await text(page, 'plan-padded')).toBe('18');
+    expect(await text(page, 'plan-blank')).toBe('13');
+    expect(await text(page, 'plan-tier')).toBe('up to 18');
+    expect(await text(page, 'plan-total')).toBe('€24.00'); // 4.00 + setup 20.00
+    expect(await text(page, 'plan-setup')).toContain('9 more sets would waive it');
+    await page.getByLabel('Number of sets').fill('10');
+    expect(await text(page, 'plan-total')).toBe('€40.00'); // fee waived exactly at 10 sets
+    expect(await text(page, 'plan-cost-per-set')).toBe('€4.00');
+    expect(await page.locator('[data-testid="plan-tiers"] tr[data-cheapest]').textContent()).toContain('up to 18 cards');
+    expect(await page.getByTestId('plan-suggestions').textContent()).toContain('13');
+    await page.screenshot({ path: `${SCREENSHOTS}/planner.png`, fullPage: true });
+
+    // Tablet width: the planner still fits without sideways scrolling.
+    await page.setViewportSize({ width: 820, height: 1180 });
+    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(820);
+    await page.screenshot({ path: `${SCREENSHOTS}/planner-tablet.png`, fullPage: true });
+
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+});
