@@ -4,6 +4,7 @@ import type { Knex } from 'knex';
 import type { RunningServer } from '../../server/server.ts';
 import { upsertMembership } from '../../server/db/memberships.ts';
 import { createUser, uniqueEmail, waitForMailLink, type ActorName, type WorkspaceFixture } from './fixtures.ts';
+import { RUN_ROUTES } from './runs-access.ts';
 
 export interface RouteContext {
   fx: WorkspaceFixture;
@@ -13,7 +14,7 @@ export interface RouteContext {
 
 export interface AccessRow {
   name: string;
-  method: 'GET' | 'POST' | 'PATCH' | 'DELETE';
+  method: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
   /** Builds the path; may create a fresh object to act on (called once per row). */
   prepare: (ctx: RouteContext) => Promise<{ path: string; body?: unknown }>;
   expect: Record<ActorName, number>;
@@ -111,5 +112,7 @@ export const ROUTES: AccessRow[] = [
     // The maker deletes it first; the owner then finds nothing.
     expect: { ...WRITERS(204), owner: 404 },
   },
+  // Runs (issue 4): recipes, art sets, runs, share links.
+  ...RUN_ROUTES,
 ];
 

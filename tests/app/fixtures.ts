@@ -78,7 +78,8 @@ export class Actor {
     const setCookie = res.headers.getSetCookie().find((c) => c.startsWith('bw.sid='));
     if (setCookie && opts.cookie === undefined) this.cookie = setCookie.split(';')[0];
     const text = await res.text();
-    const parsed = text ? JSON.parse(text) : null;
+    // Images and other downloads come back as text; only JSON answers are parsed.
+    const parsed = !text ? null : (res.headers.get('content-type') ?? '').includes('json') ? JSON.parse(text) : text;
     if (parsed?.csrfToken) this.csrfToken = parsed.csrfToken;
     if (path === '/api/session' && method === 'POST' && parsed?.user) this.user = parsed.user;
     return { status: res.status, body: parsed, headers: res.headers };
