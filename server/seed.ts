@@ -1,4 +1,11 @@
+import { randomBytes } from 'node:crypto';
+import { copyFile, mkdir, readFile } from 'node:fs/promises';
+import path from 'node:path';
 import type { Knex } from 'knex';
+import { importArtSetZip } from './services/art-sets.ts';
+import { createRecipe } from './services/recipes.ts';
+import { startRun, type SendJob } from './services/runs.ts';
+import type { Storage } from './storage.ts';
 import { findUserByEmail, insertUser, setUserPassword } from './db/users.ts';
 import { findWorkspaceBySlug, insertWorkspace } from './db/workspaces.ts';
 import { upsertMembership } from './db/memberships.ts';
@@ -41,4 +48,30 @@ export async function seedDemo(db: Knex): Promise<{ workspaceId: string; account
     await upsertMembership(db, workspace.id, userId, account.role);
   }
   return { workspaceId: workspace.id, accounts: DEMO_ACCOUNTS };
+}
+
+// Runs demo (issue 4): the sample recipe (samples/poker.json) and the sample art set
+// (samples/cinderbrook.zip, an invented card game), and one run of them on the first start.
+export const DEMO_RECIPE_FILE = 'samples/poker.json';
+export const DEMO_ART_FILE = 'samples/cinderbrook.zip';
+
+export async function seedRunsDemo(
+  deps: { db: Knex; storage: Storage; tmpDir: string; send: SendJob },
+  workspaceId: string,
+): Promise<void> {
+  const owner = await demoOwner(deps.db, workspaceId);
+  const settings = JSON.parse(await readFile(DEMO_RECIPE_FILE, 'utf8'));
+  const existing = await deps.db('recipes').where({ workspace_id: workspaceId, name: settings.name }).first('id');
+  const recipeId = existing?.id ?? (await createRecipe(deps.db, workspaceId, owner, settings)).id;
+  await mkdir(deps.tmpDir, { recursive: true });
+  const temp = path.join(deps.tmpDir, `seed-${randomBytes(6).toString('hex')}.zip`);
+  await copyFile(DEMO_ART_FILE, temp);
+  const art = await importArtSetZip({ db: deps.db, storage: deps.storage, tmpDir: deps.tmpDir }, { workspaceId, userId: owner, tempFile: temp, name: 'Cinderbrook Couriers art', note: 'Demo art set' });
+  const anyRun = await deps.db('runs').where({ workspace_id: workspaceId }).first('id');
+  if (!anyRun) await startRun(deps, { workspaceId, userId: owner, recipeId, artSetId: art.artSetId });
+}
+
+async function demoOwner(db: Knex, workspaceId: string): Promise<string | null> {
+  const row = await db('memberships').where({ workspace_id: workspaceId, role: 'owner' }).orderBy('created_at').first('user_id');
+  return row?.user_id ?? null;
 }

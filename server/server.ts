@@ -8,7 +8,7 @@ import { createDb, migrateLatest } from './db/knex.ts';
 import { createLogger, type Logger } from './logger.ts';
 import { createSmtpMailer } from './mail.ts';
 import { startMailCatcher, type MailCatcher } from './mail-catcher.ts';
-import { seedDemo, type DemoAccount } from './seed.ts';
+import { seedDemo, seedRunsDemo, type DemoAccount } from './seed.ts';
 import { startQueue, type Queue } from '../jobs/boss.ts';
 import { installRunsRuntime, runsConfigFromEnv, type RunsConfig } from '../jobs/runs/runtime.ts';
 import { localStorage } from './storage.ts';
@@ -79,6 +79,9 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
     bossOptions: { maintenanceIntervalSeconds: runsConfig.maintenanceSeconds, schema: runsConfig.bossSchema },
   });
   queueRef = queue;
+  if (demo) {
+    await seedRunsDemo({ db, storage, tmpDir: runsConfig.tmpDir, send }, demo.workspaceId).catch((err) => logger.warn({ err }, 'runs demo data not seeded'));
+  }
   const sessionPool = new pg.Pool({ connectionString: opts.databaseUrl, max: 5 });
   const deps: AppDeps = {
     db,
