@@ -111,4 +111,10 @@ describe('suggestFills', () => {
     expect(s[0]!.text).toContain('ferry (×3), gull (×2), lantern (×1)');
     expect(s[0]!.slots).toBe(4);
   });
+
+  it('does not call single copies "repeated"', () => {
+    const s = suggestFills(2, [{ source: 'a.png', copies: 1 }]);
+    expect(s[0]!.kind).toBe('extra-copies');
+    expect(s[0]!.text).not.toContain('a (×1)');
+  });
 });

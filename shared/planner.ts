@@ -119,9 +119,11 @@ export function suggestFills(blankSlots: number, fronts: readonly PlannedFront[]
   const out: SlotSuggestion[] = [];
   // Cards already wanted in several copies are the ones players run short of.
   const popular = [...fronts].filter((f) => f.copies > 0).sort((a, b) => b.copies - a.copies || (a.source < b.source ? -1 : 1));
-  if (popular.length > 0) {
+  if (popular.length > 0 && popular[0]!.copies > 1) {
     const picks = popular.slice(0, Math.min(blankSlots, 3)).map((f) => `${stem(f.source)} (×${f.copies})`);
-    out.push({ kind: 'extra-copies', slots: blankSlots, text: `Add ${blankSlots} extra ${blankSlots === 1 ? 'copy' : 'copies'} of the most used cards, such as ${picks.join(', ')}.` });
+    out.push({ kind: 'extra-copies', slots: blankSlots, text: `Add ${blankSlots} extra ${blankSlots === 1 ? 'copy' : 'copies'} of the cards the deck already repeats, such as ${picks.join(', ')}.` });
+  } else if (popular.length > 0) {
+    out.push({ kind: 'extra-copies', slots: blankSlots, text: `Add ${blankSlots} extra ${blankSlots === 1 ? 'copy' : 'copies'} of the cards players reach for most, as spares.` });
   }
   out.push({
     kind: 'reference-cards',

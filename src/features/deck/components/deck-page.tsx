@@ -14,10 +14,12 @@ export function DeckPage() {
   if (error) return <ErrorNote error={error} />;
   if (isPending || !deck) return <Loading what="the deck" />;
   const sheetMultiple = multiple ?? deck.settings.sheet.multiple;
-  const fronts = deck.entries.filter((e) => e.kind === 'front' && !e.padding);
+  // A back printed on every card is not a slot on the press sheet (DESIGN.md "sheet"); its page is shown apart.
+  const faces = deck.entries.filter((e) => !(e.kind === 'back' && !e.padding));
+  const backPages = deck.entries.filter((e) => e.kind === 'back' && !e.padding);
+  const fronts = faces.filter((e) => e.kind === 'front' && !e.padding);
   const distinct = new Set(fronts.map((e) => e.source)).size;
   const padding = deck.entries.filter((e) => e.padding).length;
-  const backs = deck.entries.filter((e) => e.kind === 'back' && !e.padding).length;
   return (
     <>
       <PageHeader eyebrow="Run · deck" title={`${deck.run.recipe.name} on ${deck.run.artSet.name}`}>
@@ -32,16 +34,23 @@ export function DeckPage() {
       </PageHeader>
       <div className="grid items-start gap-8 xl:grid-cols-[1fr_18rem]">
         <Panel title="Print order">
-          {deck.entries.length === 0 ? (
+          {faces.length === 0 ? (
             <p className="text-sm text-ink-soft">No card was produced yet.</p>
           ) : (
-            <DeckView workspaceId={workspaceId} runId={runId} entries={deck.entries} multiple={sheetMultiple} />
+            <DeckView workspaceId={workspaceId} runId={runId} entries={faces} multiple={sheetMultiple} />
+          )}
+          {backPages.length > 0 && (
+            <p className="mt-4 text-sm text-ink-soft" data-testid="deck-backs">
+              {deck.settings.back.placement === 'interleaved'
+                ? `${plural(backPages.length, 'back page')} follow their fronts in the PDF; they print on the reverse, not in extra slots.`
+                : `The back (${backPages[0]!.source?.split('/').pop()}) is page ${backPages[0]!.seq} of ${deck.entries.length} in the PDF, printed on the reverse of every card.`}
+            </p>
           )}
         </Panel>
         <Panel title="Counts">
           <dl className="grid grid-cols-2 gap-3 text-sm" data-testid="deck-counts">
             <dt className="text-ink-soft">Slots</dt>
-            <dd className="font-mono">{deck.entries.length}</dd>
+            <dd className="font-mono">{faces.length}</dd>
             <dt className="text-ink-soft">Card faces</dt>
             <dd className="font-mono">{fronts.length}</dd>
             <dt className="text-ink-soft">Different cards</dt>
@@ -49,9 +58,9 @@ export function DeckPage() {
             <dt className="text-ink-soft">Padding</dt>
             <dd className="font-mono">{padding}</dd>
             <dt className="text-ink-soft">Back pages</dt>
-            <dd className="font-mono">{backs}</dd>
+            <dd className="font-mono">{backPages.length}</dd>
             <dt className="text-ink-soft">Press sheets</dt>
-            <dd className="font-mono">{Math.ceil(deck.entries.length / Math.max(1, sheetMultiple))}</dd>
+            <dd className="font-mono">{Math.ceil(faces.length / Math.max(1, sheetMultiple))}</dd>
           </dl>
           <div className="mt-4">
             <ChoiceField label="Outline sheets of" value={sheetMultiple} onChange={(e) => setMultiple(Number(e.target.value))}>

@@ -23,7 +23,8 @@ export function layoutSheets(entries: readonly DeckEntry[], multiple: number, co
   for (let start = 0; start < entries.length; start += per) {
     const slice = entries.slice(start, start + per);
     const rows = Math.ceil(slice.length / columns);
-    const height = SHEET_HEAD + SHEET_PAD * 2 + rows * CELL_H + (rows - 1) * GAP;
+    // Head, its border, padding above and below, the rows, the section's own border.
+    const height = SHEET_HEAD + 1 + SHEET_PAD * 2 + rows * CELL_H + (rows - 1) * GAP + 4;
     sheets.push({ index: sheets.length, start, entries: slice, top, height });
     top += height + SHEET_GAP;
   }
@@ -57,7 +58,7 @@ export function DeckView({ workspaceId, runId, entries, multiple, height = 640 }
 
   const columns = Math.max(1, Math.min(Math.max(1, multiple), Math.floor((width - SHEET_PAD * 2 + GAP) / (CELL_W + GAP))));
   const sheets = useMemo(() => layoutSheets(entries, multiple, columns), [entries, multiple, columns]);
-  const total = sheets.length ? sheets.at(-1)!.top + sheets.at(-1)!.height : 0;
+  const total = sheets.length ? sheets.at(-1)!.top + sheets.at(-1)!.height + 16 : 0;
   const from = sheets.length ? firstSheetBelow(sheets, scrollTop - OVERSCAN_PX) : 0;
   const visible: Sheet[] = [];
   for (let i = from; i < sheets.length && sheets[i]!.top < scrollTop + height + OVERSCAN_PX; i++) visible.push(sheets[i]!);
@@ -81,7 +82,7 @@ export function DeckView({ workspaceId, runId, entries, multiple, height = 640 }
             data-testid="press-sheet"
             aria-label={`Press sheet ${sheet.index + 1}: slots ${sheet.start + 1} to ${sheet.start + sheet.entries.length}`}
             className="absolute inset-x-2 rounded-sm border-2 border-dashed border-plum/50 bg-white/70"
-            style={{ top: sheet.top + 8, height: sheet.height - 8 }}
+            style={{ top: sheet.top + 8, height: sheet.height }}
           >
             <h3 className="flex h-[34px] items-center justify-between border-b border-line/70 px-3 font-mono text-xs text-ink-soft">
               <span className="font-semibold text-plum">Press sheet {sheet.index + 1}</span>

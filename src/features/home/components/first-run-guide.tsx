@@ -1,5 +1,5 @@
 // The first-run guide: from nothing to a downloaded PDF in five steps. Steps already done are folded
-// away; what counts as done comes from the workspace's own recipes, art sets and runs, and from this
+// away (hidden); what counts as done comes from the workspace's own recipes, art sets and runs, and from this
 // browser having opened a proof or downloaded a PDF.
 import type { ReactNode } from 'react';
 import { Link } from 'react-router-dom';
@@ -115,21 +115,17 @@ export function FirstRunGuide({
       <h2 id="guide-title" className="font-mono text-xs font-medium uppercase tracking-[0.2em] text-ink-soft">
         From art to a print-ready PDF · {steps.length - open.length} of {steps.length} done
       </h2>
-      <ol className="mt-4 grid gap-4 md:grid-cols-5">
-        {steps.map((s, i) => (
-          <li key={s.id} data-step={s.id} data-done={s.done} className={`rounded-md border p-3 ${s === next ? 'border-cut bg-white' : 'border-line'} ${s.done ? 'opacity-60' : ''}`}>
-            <p className="font-mono text-xs text-cut">
-              0{i + 1} {s.done && <span className="text-proof">✓ done</span>}
-            </p>
-            <h3 className="mt-1 font-semibold">{s.title}</h3>
-            {!s.done && (
-              <>
-                <p className="mt-1 text-xs text-ink-soft">{s.text}</p>
-                <div className="mt-3">{s.action}</div>
-              </>
-            )}
-          </li>
-        ))}
+      <ol className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-3">
+        {steps.map((s, i) =>
+          s.done ? null : (
+            <li key={s.id} data-step={s.id} className={`rounded-md border p-4 ${s === next ? 'border-cut bg-white' : 'border-line'}`}>
+              <p className="font-mono text-xs text-cut">0{i + 1}{s === next ? ' · next' : ''}</p>
+              <h3 className="mt-1 font-semibold">{s.title}</h3>
+              <p className="mt-1 text-sm text-ink-soft">{s.text}</p>
+              <div className="mt-3">{s.action}</div>
+            </li>
+          ),
+        )}
       </ol>
     </section>
   );

@@ -1,6 +1,6 @@
 // One card of a run at full size: trim, bleed and safe lines toggled with the button or "g", arrow
 // keys step through the run's cards, findings beside it, and where the card and its back sit in the deck.
-import { useCallback, useEffect, useMemo, useState } from 'react';
+import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import { Link, useNavigate, useParams } from 'react-router-dom';
 import { Button, ErrorNote, Loading, PageHeader, Panel } from '../../../components/ui';
 import { SeverityBadge, StateBadge } from '../../../components/status';
@@ -34,12 +34,20 @@ export function ProofViewerPage() {
     }
   }, [deck]);
 
+  // The card being moved to, ahead of the render: quick repeated arrow presses step one card each.
+  const current = useRef(cardId);
+  useEffect(() => {
+    current.current = cardId;
+  }, [cardId]);
   const go = useCallback(
     (step: number) => {
-      const next = ordered[index + step];
-      if (next) navigate(`../${next.id}`, { relative: 'path', replace: true });
+      const at = ordered.findIndex((c) => c.id === current.current);
+      const next = at >= 0 ? ordered[at + step] : undefined;
+      if (!next) return;
+      current.current = next.id;
+      navigate(`/w/${workspaceId}/runs/${runId}/cards/${next.id}`, { replace: true });
     },
-    [ordered, index, navigate],
+    [ordered, navigate, workspaceId, runId],
   );
 
   useEffect(() => markGuideStep(workspaceId, 'proof'), [workspaceId]);
