@@ -75,6 +75,7 @@ export async function writeCombinedPdf(opts: {
               `/BitsPerComponent 8 /Filter /FlateDecode ` +
               `/DecodeParms << /Predictor 15 /Colors 3 /BitsPerComponent 8 /Columns ${png.width} >>`,
             png.idat,
+            `png ${png.width}x${png.height} ${png.idatBytes} ${png.idatCrcs.join(',')}`,
           );
           imageNums.set(page.pngPath, imageNum);
         }

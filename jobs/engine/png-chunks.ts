@@ -10,6 +10,8 @@ export type PngForPdf = {
   /** IDAT chunk payloads in file order; concatenated they are one zlib stream (PNG spec 10). */
   idat: Buffer[];
   idatBytes: number;
+  /** The IDAT chunks' own CRC-32s in order: a cheap fingerprint of the image data. */
+  idatCrcs: number[];
 };
 
 const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
@@ -40,6 +42,7 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
   let sawHeader = false;
   let sawEnd = false;
   const idat: Buffer[] = [];
+  const idatCrcs: number[] = [];
   let idatBytes = 0;
   while (pos < file.length) {
     if (pos + 12 > file.length) break;
@@ -75,6 +78,7 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
       sawHeader = true;
     } else if (type === 'IDAT') {
       idat.push(data);
+      idatCrcs.push(storedCrc);
       idatBytes += length;
     } else if (type === 'IEND') {
       sawEnd = true;
@@ -85,5 +89,5 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
   if (!sawHeader || !sawEnd || idatBytes === 0) {
     throw new PdfEngineError('PDF_IMAGE_TRUNCATED', `card image "${name}" is cut short (no image data or no end marker); export it again.`);
   }
-  return { width, height, idat, idatBytes };
+  return { width, height, idat, idatBytes, idatCrcs };
 }

@@ -1,9 +1,9 @@
 // The engine without a database: a thin loop over reusable pieces. The pg-boss render job calls
 // conformCard per card and the assemble job calls assembleOutputs; the CLI calls runEngine.
-import { createWriteStream } from 'node:fs';
-import { copyFile, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { createHash, randomBytes } from 'node:crypto';
+import { access, copyFile, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import path from 'node:path';
-import yazl from 'yazl';
+import sharp from 'sharp';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
 import { BleedwrightError } from '../../shared/errors.ts';
 import type { Finding } from '../../shared/findings.ts';
@@ -16,6 +16,7 @@ import { markDuplicates } from './preflight.ts';
 import { writeProof } from './proof.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
 import { writeImposedSheets } from './sheets.ts';
+import { writeZip } from './zip-writer.ts';
 
 /** Cards conformed at once: two keeps both cores of a small machine busy without doubling memory. */
 export const CARDS_IN_FLIGHT = 2;
@@ -81,14 +82,85 @@ export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: R
   return images.map((source) => ({ source, role: backs.has(source) ? ('back' as const) : ('front' as const), title: titles.get(source) ?? null }));
 }
 
-/** Conforms one source image and writes its PNG to `pngPath` (temp name, then rename). */
-export async function renderCard(opts: { set: ArtSet; source: string; role: 'front' | 'back'; title: string | null; recipe: Recipe; pngPath: string | null }): Promise<RenderedCard> {
-  const { set, source, role, title, recipe, pngPath } = opts;
+// Bump when conform makes different pixels or findings for the same input and recipe, so renders
+// cached by an older engine are not reused.
+const RENDER_VERSION = 2;
+
+/**
+ * Cache key of one render: the source bytes, its name (turn rules and the extension check read it),
+ * the recipe fields conform reads, the engine's render version and the image library's version.
+ */
+export function renderCacheKey(recipe: Recipe, source: string, input: Buffer): string {
+  const { trim, bleed, dpi, fit, fill, turn, turnRules } = recipe;
+  const conformFields = { trim, bleed, dpi, source: recipe.source, fit, fill, turn, turnRules };
+  return createHash('sha256')
+    .update(JSON.stringify({ v: RENDER_VERSION, vips: sharp.versions.vips, source, recipe: conformFields }))
+    .update('\0')
+    .update(input)
+    .digest('hex');
+}
+
+type CachedRender = { png: boolean; info: RenderedCard['info'] };
+
+async function readCached(cacheDir: string, key: string): Promise<CachedRender | null> {
+  try {
+    const cached = JSON.parse(await readFile(path.join(cacheDir, `${key}.json`), 'utf8')) as CachedRender;
+    return typeof cached.png === 'boolean' && Array.isArray(cached.info?.findings) ? cached : null;
+  } catch {
+    return null;
+  }
+}
+
+/** Writes under a name no other writer uses, then renames: concurrent runs sharing a cache never see half a file. */
+async function writeShared(target: string, data: Buffer | string): Promise<void> {
+  const tmp = `${target}.${process.pid}-${randomBytes(4).toString('hex')}.tmp`;
+  await writeFile(tmp, data);
+  await rename(tmp, target);
+}
+
+/**
+ * Conforms one source image and writes its PNG to `pngPath` (temp name, then rename).
+ *
+ * With `cacheDir`, renders are kept there by `renderCacheKey` (source bytes and conform settings), and a
+ * card rendered before is not conformed again: the returned `pngPath` is then the cached file (read it,
+ * never change it) and `pngPath` is not written.
+ */
+export async function renderCard(opts: {
+  set: ArtSet;
+  source: string;
+  role: 'front' | 'back';
+  title: string | null;
+  recipe: Recipe;
+  pngPath: string | null;
+  cacheDir?: string | null;
+}): Promise<RenderedCard> {
+  const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
   const input = await readEntry(set, source);
+  const key = cacheDir ? renderCacheKey(recipe, source, input) : null;
+  if (cacheDir && key) {
+    const cached = await readCached(cacheDir, key);
+    const cachedPng = path.join(cacheDir, `${key}.png`);
+    if (cached && !cached.png) return { source, role, title, pngPath: null, info: cached.info };
+    if (cached && (pngPath === null || (await fileExists(cachedPng)))) return { source, role, title, pngPath: pngPath === null ? null : cachedPng, info: cached.info };
+  }
   const result = await conformCard({ input, sourceName: source, recipe });
+  if (cacheDir && key) {
+    if (result.png) await writeShared(path.join(cacheDir, `${key}.png`), result.png);
+    await writeShared(path.join(cacheDir, `${key}.json`), JSON.stringify({ png: result.png !== null, info: result.info } satisfies CachedRender));
+  }
   if (!result.png) return { source, role, title, pngPath: null, info: result.info };
+  if (cacheDir && key && pngPath) return { source, role, title, pngPath: path.join(cacheDir, `${key}.png`), info: result.info };
   if (pngPath) await writeAtomic(pngPath, result.png);
   return { source, role, title, pngPath, info: result.info };
+}
+
+async function fileExists(p: string): Promise<boolean> {
+  try {
+    await access(p);
+    return true;
+  } catch {
+    return false;
+  }
 }
 
 function errorText(findings: readonly Finding[]): string | null {
@@ -291,15 +363,13 @@ const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
 /** Zips the listed files (paths relative to outDir) into outDir/bundle.zip. */
 export async function writeBundle(outDir: string, files: readonly string[]): Promise<void> {
   const target = inside(outDir, 'bundle.zip');
-  const zip = new yazl.ZipFile();
-  for (const rel of files) zip.addFile(inside(outDir, rel), rel, { mtime: BUNDLE_MTIME, mode: 0o100644, compress: !/\.(png|jpe?g|pdf)$/i.test(rel) });
-  zip.end();
-  await new Promise<void>((resolve, reject) => {
-    const out = createWriteStream(`${target}.tmp`);
-    out.on('close', () => resolve());
-    out.on('error', reject);
-    zip.outputStream.on('error', reject).pipe(out);
-  });
+  const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel) }));
+  try {
+    await writeZip(`${target}.tmp`, entries, BUNDLE_MTIME);
+  } catch (err) {
+    await rm(`${target}.tmp`, { force: true });
+    throw err;
+  }
   await rename(`${target}.tmp`, target);
 }
 
@@ -310,8 +380,12 @@ export async function runEngine(opts: {
   outDir: string;
   limits?: Partial<ArchiveLimits>;
   onProgress?: (p: Progress) => void;
+  /** Keep renders here and reuse them on reruns (see renderCard); default BLEEDWRIGHT_CACHE_DIR, else none. */
+  cacheDir?: string | null;
 }): Promise<RunResult> {
   const { recipe, onProgress } = opts;
+  const cacheDir = opts.cacheDir === undefined ? process.env.BLEEDWRIGHT_CACHE_DIR || null : opts.cacheDir;
+  if (cacheDir) await mkdir(cacheDir, { recursive: true });
   const set = await openArtSet(opts.source, opts.limits);
   const sources = cardSources(set, recipe);
   const outDir = path.resolve(opts.outDir);
@@ -323,7 +397,7 @@ export async function runEngine(opts: {
     let done = 0;
     onProgress?.({ phase: 'cards', done, total: sources.length });
     const cards = await mapLimited(sources, CARDS_IN_FLIGHT, async (s, i) => {
-      const card = await renderCard({ set, ...s, recipe, pngPath: inside(workDir, `${String(i).padStart(5, '0')}.png`) });
+      const card = await renderCard({ set, ...s, recipe, pngPath: inside(workDir, `${String(i).padStart(5, '0')}.png`), cacheDir });
       onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
       return card;
     });

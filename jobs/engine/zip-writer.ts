@@ -1,0 +1,182 @@
+// A small streaming zip writer for bundles (PKWARE APPNOTE 6.3: local headers, central directory,
+// end record; Zip64 records when a size or offset passes 4 GiB). It exists for speed: the CRC-32 of
+// every file is taken with zlib's native crc32 (a bundle of 1,000 cards holds about 2 GB, which
+// yazl's JavaScript CRC needed seconds for). Sizes and CRCs are known before each local header is
+// written, so no data descriptors are needed; big files are streamed, never held in memory whole.
+import { createReadStream, createWriteStream, type WriteStream } from 'node:fs';
+import { once } from 'node:events';
+import { readFile, stat } from 'node:fs/promises';
+import { crc32, deflateRawSync } from 'node:zlib';
+
+export type ZipFileEntry = {
+  /** Path of the file on disk. */
+  file: string;
+  /** Name inside the zip (forward slashes). */
+  name: string;
+  /** Deflate the data (small text files); otherwise stored as-is (PNG, JPEG, PDF are compressed already). */
+  compress: boolean;
+};
+
+const U32 = 0xffffffff;
+const U16 = 0xffff;
+const UTF8_FLAG = 0x800;
+const MADE_BY_UNIX = (3 << 8) | 45;
+const MODE_FILE = 0o100644;
+const READ_CHUNK = 1024 * 1024;
+
+/** DOS date and time fields of a fixed moment, so the same files always make the same bytes. */
+function dosDateTime(d: Date): { date: number; time: number } {
+  return {
+    date: ((d.getUTCFullYear() - 1980) << 9) | ((d.getUTCMonth() + 1) << 5) | d.getUTCDate(),
+    time: (d.getUTCHours() << 11) | (d.getUTCMinutes() << 5) | Math.floor(d.getUTCSeconds() / 2),
+  };
+}
+
+type Written = { name: Buffer; crc: number; size: number; compressedSize: number; offset: number; method: number };
+
+class Output {
+  private readonly out: WriteStream;
+  position = 0;
+  constructor(file: string) {
+    this.out = createWriteStream(file, { highWaterMark: READ_CHUNK });
+  }
+  async write(buf: Buffer): Promise<void> {
+    this.position += buf.length;
+    if (!this.out.write(buf)) await once(this.out, 'drain');
+  }
+  async close(): Promise<void> {
+    this.out.end();
+    await once(this.out, 'finish');
+  }
+  destroy(): void {
+    this.out.destroy();
+  }
+}
+
+async function fileCrc(file: string): Promise<number> {
+  let crc = 0;
+  for await (const chunk of createReadStream(file, { highWaterMark: READ_CHUNK })) crc = crc32(chunk as Buffer, crc);
+  return crc;
+}
+
+function localHeader(e: Written, stamp: { date: number; time: number }): Buffer {
+  const zip64 = e.size >= U32 || e.compressedSize >= U32;
+  const extra = zip64 ? Buffer.alloc(20) : Buffer.alloc(0);
+  if (zip64) {
+    extra.writeUInt16LE(0x0001, 0);
+    extra.writeUInt16LE(16, 2);
+    extra.writeBigUInt64LE(BigInt(e.size), 4);
+    extra.writeBigUInt64LE(BigInt(e.compressedSize), 12);
+  }
+  const h = Buffer.alloc(30);
+  h.writeUInt32LE(0x04034b50, 0);
+  h.writeUInt16LE(zip64 ? 45 : 20, 4);
+  h.writeUInt16LE(UTF8_FLAG, 6);
+  h.writeUInt16LE(e.method, 8);
+  h.writeUInt16LE(stamp.time, 10);
+  h.writeUInt16LE(stamp.date, 12);
+  h.writeUInt32LE(e.crc, 14);
+  h.writeUInt32LE(zip64 ? U32 : e.compressedSize, 18);
+  h.writeUInt32LE(zip64 ? U32 : e.size, 22);
+  h.writeUInt16LE(e.name.length, 26);
+  h.writeUInt16LE(extra.length, 28);
+  return Buffer.concat([h, e.name, extra]);
+}
+
+function centralHeader(e: Written, stamp: { date: number; time: number }): Buffer {
+  // Zip64 extra field: only the values that do not fit, in this order (APPNOTE 4.5.3).
+  const big: bigint[] = [];
+  if (e.size >= U32) big.push(BigInt(e.size));
+  if (e.compressedSize >= U32) big.push(BigInt(e.compressedSize));
+  if (e.offset >= U32) big.push(BigInt(e.offset));
+  const extra = big.length ? Buffer.alloc(4 + 8 * big.length) : Buffer.alloc(0);
+  if (big.length) {
+    extra.writeUInt16LE(0x0001, 0);
+    extra.writeUInt16LE(8 * big.length, 2);
+    big.forEach((v, i) => extra.writeBigUInt64LE(v, 4 + 8 * i));
+  }
+  const h = Buffer.alloc(46);
+  h.writeUInt32LE(0x02014b50, 0);
+  h.writeUInt16LE(MADE_BY_UNIX, 4);
+  h.writeUInt16LE(big.length ? 45 : 20, 6);
+  h.writeUInt16LE(UTF8_FLAG, 8);
+  h.writeUInt16LE(e.method, 10);
+  h.writeUInt16LE(stamp.time, 12);
+  h.writeUInt16LE(stamp.date, 14);
+  h.writeUInt32LE(e.crc, 16);
+  h.writeUInt32LE(e.compressedSize >= U32 ? U32 : e.compressedSize, 20);
+  h.writeUInt32LE(e.size >= U32 ? U32 : e.size, 24);
+  h.writeUInt16LE(e.name.length, 28);
+  h.writeUInt16LE(extra.length, 30);
+  h.writeUInt32LE((MODE_FILE << 16) >>> 0, 38);
+  h.writeUInt32LE(e.offset >= U32 ? U32 : e.offset, 42);
+  return Buffer.concat([h, e.name, extra]);
+}
+
+function endRecords(count: number, cdOffset: number, cdSize: number): Buffer {
+  const parts: Buffer[] = [];
+  const zip64 = count >= U16 || cdOffset >= U32 || cdSize >= U32;
+  if (zip64) {
+    const rec = Buffer.alloc(56);
+    rec.writeUInt32LE(0x06064b50, 0);
+    rec.writeBigUInt64LE(44n, 4);
+    rec.writeUInt16LE(MADE_BY_UNIX, 12);
+    rec.writeUInt16LE(45, 14);
+    rec.writeBigUInt64LE(BigInt(count), 24);
+    rec.writeBigUInt64LE(BigInt(count), 32);
+    rec.writeBigUInt64LE(BigInt(cdSize), 40);
+    rec.writeBigUInt64LE(BigInt(cdOffset), 48);
+    const locator = Buffer.alloc(20);
+    locator.writeUInt32LE(0x07064b50, 0);
+    locator.writeBigUInt64LE(BigInt(cdOffset + cdSize), 8);
+    locator.writeUInt32LE(1, 16);
+    parts.push(rec, locator);
+  }
+  const end = Buffer.alloc(22);
+  end.writeUInt32LE(0x06054b50, 0);
+  end.writeUInt16LE(Math.min(count, U16), 8);
+  end.writeUInt16LE(Math.min(count, U16), 10);
+  end.writeUInt32LE(Math.min(cdSize, U32), 12);
+  end.writeUInt32LE(Math.min(cdOffset, U32), 16);
+  parts.push(end);
+  return Buffer.concat(parts);
+}
+
+/** Writes `entries` in order into a zip at `target`; every entry gets the time stamp `mtime`. */
+export async function writeZip(target: string, entries: readonly ZipFileEntry[], mtime: Date): Promise<void> {
+  const stamp = dosDateTime(mtime);
+  const out = new Output(target);
+  const written: Written[] = [];
+  try {
+    for (const entry of entries) {
+      const name = Buffer.from(entry.name, 'utf8');
+      const offset = out.position;
+      if (entry.compress) {
+        const data = await readFile(entry.file);
+        const deflated = deflateRawSync(data);
+        const e = { name, crc: crc32(data), size: data.length, compressedSize: deflated.length, offset, method: 8 };
+        await out.write(localHeader(e, stamp));
+        await out.write(deflated);
+        written.push(e);
+      } else {
+        const { size } = await stat(entry.file);
+        const e = { name, crc: await fileCrc(entry.file), size, compressedSize: size, offset, method: 0 };
+        await out.write(localHeader(e, stamp));
+        let copied = 0;
+        for await (const chunk of createReadStream(entry.file, { highWaterMark: READ_CHUNK })) {
+          copied += (chunk as Buffer).length;
+          await out.write(chunk as Buffer);
+        }
+        if (copied !== size) throw new Error(`"${entry.name}" changed size while it was being zipped`);
+        written.push(e);
+      }
+    }
+    const cdOffset = out.position;
+    for (const e of written) await out.write(centralHeader(e, stamp));
+    await out.write(endRecords(written.length, cdOffset, out.position - cdOffset));
+    await out.close();
+  } catch (err) {
+    out.destroy();
+    throw err;
+  }
+}
