@@ -92,7 +92,7 @@ function EditorBody({ workspaceId, detail, initialNote }: { workspaceId: string;
         </Panel>
         <div className="space-y-6 xl:sticky xl:top-8">
           <Panel title="Page geometry">
-            <GeometryPanel recipe={parsed.success ? parsed.data : null} />
+            <GeometryPanel recipe={form} sizeIssue={Object.keys(clientIssues).some((k) => /^(trim|bleed|safe|dpi)\b/.test(k))} />
           </Panel>
           {canWrite && (
             <Panel title="Save">

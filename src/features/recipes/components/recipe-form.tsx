@@ -5,7 +5,7 @@ import { CheckField, ChoiceField, InputField } from '../../../components/fields'
 import { Button } from '../../../components/ui';
 import { FORMAT_EXT, renderName } from '../../../../shared/naming';
 import { TRIM_PRESETS, findPreset } from '../../../../shared/presets';
-import { recipeGeometry, type Recipe } from '../../../../shared/recipe';
+import { recipeGeometry, type Recipe, type RecipeGeometry } from '../../../../shared/recipe';
 
 export type Issues = Record<string, string>;
 
@@ -269,14 +269,16 @@ function LengthField({ label, hint, value, error, onChange }: { label: string; h
   );
 }
 
-/** The page the recipe makes: what the printer and the PDF will see. */
-export function GeometryPanel({ recipe }: { recipe: Recipe | null }) {
-  if (!recipe) return <p className="text-sm text-ink-soft">Fix the fields marked above to see the page size.</p>;
-  let g;
+/** The page the recipe makes: what the printer and the PDF will see. Shown whatever other fields say. */
+export function GeometryPanel({ recipe, sizeIssue }: { recipe: Recipe; sizeIssue: boolean }) {
+  let g: RecipeGeometry | null = null;
   try {
-    g = recipeGeometry(recipe);
+    g = sizeIssue ? null : recipeGeometry(recipe);
   } catch {
-    return <p className="text-sm text-ink-soft">Fix the size fields to see the page size.</p>;
+    g = null;
+  }
+  if (!g || ![g.pagePx.w, g.pagePx.h, g.pagePt.w, g.pagePt.h, g.bleedPx].every(Number.isFinite)) {
+    return <p className="text-sm text-ink-soft">Fix the size fields (trim, bleed, safe margin, DPI) to see the page size.</p>;
   }
   const rows: Array<[string, string]> = [
     ['Page (trim + bleed)', `${g.pagePx.w} x ${g.pagePx.h} px`],

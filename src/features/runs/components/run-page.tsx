@@ -52,13 +52,15 @@ export function RunPage() {
         <div className="min-w-0 space-y-8">
           <ProgressPanel workspaceId={workspaceId} run={r} canWrite={canWrite} />
           {r.totals && <TotalsPanel totals={r.totals} />}
-          <CardsPanel workspaceId={workspaceId} runId={r.id} live={!terminal} />
         </div>
-        <div className="space-y-8">
-          <DownloadsPanel workspaceId={workspaceId} run={r} />
-          <DiffPanel run={r} />
-          {canWrite && <ShareLinksPanel workspaceId={workspaceId} runId={r.id} ready={r.state === 'done'} />}
-        </div>
+        <DownloadsPanel workspaceId={workspaceId} run={r} />
+      </div>
+      <div className="mt-8 grid items-start gap-8 lg:grid-cols-2">
+        <DiffPanel run={r} />
+        {canWrite && <ShareLinksPanel workspaceId={workspaceId} runId={r.id} ready={r.state === 'done'} />}
+      </div>
+      <div className="mt-8">
+        <CardsPanel workspaceId={workspaceId} runId={r.id} live={!terminal} />
       </div>
     </>
   );
@@ -314,21 +316,21 @@ function CardRow({ workspaceId, runId, card: c }: { workspaceId: string; runId: 
           <span className="inline-block h-16 w-11 rounded-sm bg-paper-deep" aria-hidden />
         )}
       </td>
-      <td className="py-2 font-mono text-xs">{c.seq}</td>
-      <td className="py-2">
+      <td className="py-2 pr-3 font-mono text-xs">{c.seq}</td>
+      <td className="py-2 pr-3">
         <span className="font-mono text-xs">{c.source}</span>
         {c.role === 'back' && <span className="ml-1 rounded bg-plum px-1 font-mono text-[10px] text-paper">back</span>}
         {c.sourcePx && <p className="font-mono text-[11px] text-ink-soft">{c.sourcePx.w} x {c.sourcePx.h} px</p>}
       </td>
-      <td className="py-2">
+      <td className="py-2 pr-3">
         <StateBadge state={c.state} />
         {c.cached && <p className="mt-1 text-[11px] text-ink-soft">from cache</p>}
       </td>
-      <td className="py-2 font-mono text-xs">
+      <td className="py-2 pr-3 font-mono text-xs">
         {c.outputs.length === 0 ? '—' : c.outputs.map((o) => <div key={o}>{o}</div>)}
       </td>
-      <td className="py-2 font-mono text-xs">{c.effectiveDpi ?? '—'}</td>
-      <td className="py-2 text-xs">
+      <td className="py-2 pr-3 font-mono text-xs">{c.effectiveDpi ?? '—'}</td>
+      <td className="py-2 pr-3 text-xs">
         {c.turn ?? '—'}
         <br />
         <span className="text-ink-soft">{c.fill ?? '—'}</span>
