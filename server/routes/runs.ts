@@ -55,6 +55,25 @@ export function runRoutes(deps: AppDeps): Router {
     res.json(await detail(req.member!.workspaceId, runId(req.params.runId), req.member!.userId));
   });
 
+  // Server-sent events: the run detail once a second until it is done, failed or canceled.
+  router.get('/:runId/events', read, async (req, res) => {
+    const id = runId(req.params.runId);
+    const ws = req.member!.workspaceId;
+    let last = JSON.stringify(await detail(ws, id, req.member!.userId));
+    res.writeHead(200, { 'Content-Type': 'text/event-stream', 'Cache-Control': 'no-store', Connection: 'keep-alive', 'X-Accel-Buffering': 'no' });
+    res.write(`event: run\ndata: ${last}\n\n`);
+    let closed = false;
+    req.on('close', () => (closed = true));
+    while (!closed && !['done', 'failed', 'canceled'].includes((JSON.parse(last) as RunResponse).run.state)) {
+      await new Promise((r) => setTimeout(r, 1000));
+      if (closed) break;
+      const next = JSON.stringify(await detail(ws, id, req.member!.userId));
+      res.write(next === last ? ': still working\n\n' : `event: run\ndata: ${next}\n\n`);
+      last = next;
+    }
+    res.end();
+  });
+
   router.get('/:runId/cards', read, async (req, res) => {
     const { severity } = cardListQuerySchema.parse(req.query);
     const body: RunCardsResponse = { cards: await runCards(db, req.member!.workspaceId, runId(req.params.runId), severity) };

@@ -7,6 +7,8 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { RunningServer } from '../../server/server.ts';
 import { makeZip } from '../engine/helpers.ts';
+import { runEngine } from '../../jobs/engine/run.ts';
+import { parseRecipe } from '../../shared/recipe.ts';
 import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
 import { cardSet, filesIn, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
 
@@ -91,6 +93,40 @@ describe('a run from upload to bundle', () => {
     // Every card row exactly once.
     const rows = await server.deps.db('run_cards').where({ run_id: run.id }).count<{ count: string }[]>('* as count');
     expect(Number(rows[0]!.count)).toBe(5);
+  });
+
+  it('streams progress as server-sent events until the run ends, and mails followers', async () => {
+    const recipe = await newRecipe('Streamed deck');
+    const up = await uploadZip(await cardSet(3), 'Streamed art');
+    const start = await fx.actors.maker.post(`${api}/runs`, { recipeId: recipe.id, artSetId: up.body.artSet.id });
+    const runId = start.body.run.id;
+    const follow = await fx.actors.helper.post(`${api}/runs/${runId}/follow`, { follow: true });
+    expect(follow.body.run.following).toBe(true);
+    const res = await fetch(`${server.url}${api}/runs/${runId}/events`, { headers: { Cookie: fx.actors.maker.cookie! } });
+    expect(res.headers.get('content-type')).toMatch(/^text\/event-stream/);
+    const text = await res.text(); // the server ends the stream when the run is terminal
+    const states = [...text.matchAll(/^data: (.*)$/gm)].map((m) => JSON.parse(m[1]!).run.state);
+    expect(states.at(-1)).toBe('done');
+    let mail;
+    for (let i = 0; i < 100 && !mail; i++) {
+      mail = server.mailCatcher!.list().find((m) => m.to.includes(fx.users.helper.email) && m.text.includes(runId));
+      if (!mail) await new Promise((r) => setTimeout(r, 50));
+    }
+    expect(mail?.text).toMatch(/Cards: 3 \(done 3/);
+  });
+
+  it('writes the same PDF bytes as the engine run on its own (the CLI path)', async () => {
+    const recipe = await newRecipe('Same bytes deck');
+    const zipPath = await zipOf(await cardSet(4));
+    const up = await upload(fx.actors.maker, `${api}/art-sets`, [{ field: 'file', name: 'same.zip', data: await readFile(zipPath) }]);
+    const run = await waitForRun(fx.actors.maker, fx.workspaceId, (await fx.actors.maker.post(`${api}/runs`, { recipeId: recipe.id, artSetId: up.body.artSet.id })).body.run.id);
+    expect(run.state).toBe('done');
+    const out = await mkdtemp(path.join(tmpdir(), 'bw-cli-'));
+    const cli = await runEngine({ source: zipPath, recipe: parseRecipe(recipe.settings), outDir: out });
+    const pdf = run.outputs.find((o: { kind: string }) => o.kind === 'pdf').name;
+    expect(pdf).toBe(cli.report.outputs.pdf);
+    const res = await fetch(`${server.url}${api}/runs/${run.id}/files/${pdf}`, { headers: { Cookie: fx.actors.maker.cookie! } });
+    expect(Buffer.compare(Buffer.from(await res.arrayBuffer()), await readFile(path.join(out, pdf)))).toBe(0);
   });
 
   it('stores the same zip once and answers with the existing art set', async () => {
