@@ -11,6 +11,8 @@ import { findWorkspaceBySlug, insertWorkspace } from './db/workspaces.ts';
 import { upsertMembership } from './db/memberships.ts';
 import { hashPassword, verifyPassword } from './passwords.ts';
 import type { Role } from './roles.ts';
+import { findPriceSheetByName, insertPriceSheet } from './db/price-sheets.ts';
+import { priceSheetBodySchema, type PriceSheetBody } from '../shared/api/price-sheets.ts';
 
 // An invented studio making an invented card game; every name here is made up.
 export const DEMO_WORKSPACE = { name: 'Tidewhistle Orchard', slug: 'tidewhistle-orchard' };
@@ -27,6 +29,28 @@ export const DEMO_ACCOUNTS: DemoAccount[] = [
   { role: 'maker', name: 'Bastian Pellquist', email: 'bastian@example.test', password: 'orchard-maker-2026' },
   { role: 'helper', name: 'Juno Farrowby', email: 'juno@example.test', password: 'orchard-helper-2026' },
 ];
+
+/** A price sheet for the planner with invented figures: no real printer's tiers or prices. */
+export const DEMO_PRICE_SHEET: PriceSheetBody = {
+  name: 'Demo price sheet (invented prices)',
+  currency: 'EUR',
+  tiers: [
+    { maxCards: 18, pricePerSet: 3.9 },
+    { maxCards: 36, pricePerSet: 5.6 },
+    { maxCards: 54, pricePerSet: 7.2 },
+    { maxCards: 72, pricePerSet: 8.8 },
+    { maxCards: 108, pricePerSet: 11.9 },
+    { maxCards: 126, pricePerSet: 13.4 },
+    { maxCards: 162, pricePerSet: 16.1 },
+  ],
+  setupFee: 24,
+  setupWaivedAtSets: 12,
+  stocks: [
+    { name: 'Smooth 300 gsm', surchargePerSet: 0 },
+    { name: 'Linen 330 gsm', surchargePerSet: 1.2 },
+    { name: 'Plastic', surchargePerSet: 4.5 },
+  ],
+};
 
 /**
  * Creates the demo workspace and one account per role, or brings them back to the printed state
@@ -46,6 +70,9 @@ export async function seedDemo(db: Knex): Promise<{ workspaceId: string; account
       }
     }
     await upsertMembership(db, workspace.id, userId, account.role);
+  }
+  if (!(await findPriceSheetByName(db, workspace.id, DEMO_PRICE_SHEET.name))) {
+    await insertPriceSheet(db, workspace.id, priceSheetBodySchema.parse(DEMO_PRICE_SHEET), null);
   }
   return { workspaceId: workspace.id, accounts: DEMO_ACCOUNTS };
 }

@@ -161,7 +161,7 @@ describe('browser: dashboard and print planning', () => {
     // A price sheet entered through the page (invented prices).
     await page.goto(`${ws}/price-sheets`);
     await page.getByRole('button', { name: 'New price sheet' }).click();
-    await page.getByLabel('Sheet name').fill('Invented Press');
+    await page.getByLabel('Sheet name').fill('Invented demo sheet');
     await page.getByLabel('Currency').selectOption('EUR');
     await page.getByLabel('Size 1: price per set').fill('4');
     await page.getByLabel('Size 2: price per set').fill('7.5');
@@ -189,6 +189,17 @@ describe('browser: dashboard and print planning', () => {
     expect(await page.locator('[data-testid="plan-tiers"] tr[data-cheapest]').textContent()).toContain('up to 18 cards');
     expect(await page.getByTestId('plan-suggestions').textContent()).toContain('13');
     await page.screenshot({ path: `${SCREENSHOTS}/planner.png`, fullPage: true });
+
+    // Members: what each role may do, beside the people.
+    await page.goto(`${ws}/members`);
+    const rights = page.getByTestId('role-rights');
+    await rights.waitFor();
+    const inviteRow = rights.getByRole('row', { name: /Invite people/ });
+    expect(await inviteRow.getByLabel('yes').count()).toBe(1); // owners only
+    expect(await rights.getByRole('row', { name: /Enter and edit price sheets/ }).getByLabel('yes').count()).toBe(2);
+    await page.screenshot({ path: `${SCREENSHOTS}/members-roles.png`, fullPage: true });
+    await page.goto(`${ws}/runs/${runId}/plan`);
+    await page.getByTestId('plan-run-faces').waitFor();
 
     // Tablet width: the planner still fits without sideways scrolling.
     await page.setViewportSize({ width: 820, height: 1180 });

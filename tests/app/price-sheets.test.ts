@@ -4,6 +4,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { RunningServer } from '../../server/server.ts';
 import { planPrint } from '../../shared/planner.ts';
 import { priceTermsOf, type PriceSheet } from '../../shared/api/price-sheets.ts';
+import { DEMO_PRICE_SHEET, seedDemo } from '../../server/seed.ts';
+import { listPriceSheets } from '../../server/services/price-sheets.ts';
 import { createWorkspaceFixture, startTestServer, type WorkspaceFixture } from './fixtures.ts';
 
 let server: RunningServer;
@@ -18,7 +20,7 @@ afterAll(() => server?.close());
 
 // Invented prices, no real printer's data.
 const sheet = {
-  name: 'Harbour Press (invented)',
+  name: 'Harbour demo sheet (invented)',
   currency: 'EUR',
   tiers: [
     { maxCards: 126, pricePerSet: 15.4 },
@@ -106,5 +108,14 @@ describe('price sheets', () => {
     const twelve = planPrint({ faces: 110, sheetMultiple: 18, sets: 12, priceSheet: priceTermsOf(stored), stock: 'Linen' });
     expect(twelve.pricing?.setupWaived).toBe(true);
     expect(twelve.pricing?.total).toBe(201);
+  });
+
+  it('the demo seed adds one invented price sheet, once', async () => {
+    const { workspaceId } = await seedDemo(server.deps.db);
+    await seedDemo(server.deps.db);
+    const demo = (await listPriceSheets(server.deps.db, workspaceId)).filter((s) => s.name === DEMO_PRICE_SHEET.name);
+    expect(demo).toHaveLength(1);
+    expect(demo[0]!.tiers.length).toBeGreaterThan(2);
+    expect(demo[0]!.name).toContain('invented');
   });
 });

@@ -91,12 +91,11 @@ export function MembersPage() {
             <ErrorNote error={remove.error} />
           </div>
         </Panel>
-        {isOwner && (
-          <div className="space-y-8">
-            <InviteForm workspaceId={workspaceId} />
-            <PendingInvites workspaceId={workspaceId} />
-          </div>
-        )}
+        <div className="space-y-8">
+          {isOwner && <InviteForm workspaceId={workspaceId} />}
+          {isOwner && <PendingInvites workspaceId={workspaceId} />}
+          <RolesPanel />
+        </div>
       </div>
     </>
   );
@@ -169,6 +168,52 @@ function PendingInvites({ workspaceId }: { workspaceId: string }) {
         <p className="text-sm text-ink-soft">None waiting.</p>
       )}
       <ErrorNote error={cancel.error} />
+    </Panel>
+  );
+}
+
+// What each role may do, as the server enforces it (server/middleware/auth.ts and each route's roles).
+const ROLE_RIGHTS: Array<{ what: string; owner: boolean; maker: boolean; helper: boolean }> = [
+  { what: 'See runs, cards and proofs; download outputs and bundles', owner: true, maker: true, helper: true },
+  { what: 'See recipes, art sets and price sheets; plan a print', owner: true, maker: true, helper: true },
+  { what: 'Make and edit recipes, upload art sets', owner: true, maker: true, helper: false },
+  { what: 'Start and cancel runs, make share links', owner: true, maker: true, helper: false },
+  { what: 'Enter and edit price sheets', owner: true, maker: true, helper: false },
+  { what: 'Invite people, change roles, remove members', owner: true, maker: false, helper: false },
+];
+
+function RolesPanel() {
+  return (
+    <Panel title="What each role may do">
+      <table className="w-full text-left text-sm" data-testid="role-rights">
+        <caption className="sr-only">What owners, makers and helpers may do</caption>
+        <thead className="text-ink-soft">
+          <tr>
+            <th className="pb-2 font-medium">
+              <span className="sr-only">Action</span>
+            </th>
+            {(['owner', 'maker', 'helper'] as const).map((r) => (
+              <th key={r} scope="col" className="pb-2 text-center font-medium">
+                <RoleBadge role={r} />
+              </th>
+            ))}
+          </tr>
+        </thead>
+        <tbody>
+          {ROLE_RIGHTS.map((row) => (
+            <tr key={row.what} className="border-t border-line/70">
+              <th scope="row" className="py-2 pr-2 font-normal">
+                {row.what}
+              </th>
+              {(['owner', 'maker', 'helper'] as const).map((r) => (
+                <td key={r} className="py-2 text-center">
+                  {row[r] ? <span aria-label="yes" className="font-semibold text-proof">✓</span> : <span aria-label="no" className="text-ink-soft/60">—</span>}
+                </td>
+              ))}
+            </tr>
+          ))}
+        </tbody>
+      </table>
     </Panel>
   );
 }
