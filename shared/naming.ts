@@ -46,16 +46,20 @@ export function renderName(template: string, tokens: NameTokens): string {
   return `${safe}.${tokens.ext}`;
 }
 
-/** Makes every name unique ignoring letter case by appending -2, -3, ... before the extension. */
+/**
+ * Makes every name unique ignoring letter case and Unicode form (macOS disks store decomposed names,
+ * so "café" typed two ways is one file there) by appending -2, -3, ... before the extension.
+ */
 export function uniqueNames(names: readonly string[]): string[] {
   const taken = new Set<string>();
+  const fold = (name: string) => name.normalize('NFC').toLowerCase();
   return names.map((name) => {
     const dot = name.lastIndexOf('.');
     const stem = dot > 0 ? name.slice(0, dot) : name;
     const ext = dot > 0 ? name.slice(dot) : '';
     let candidate = name;
-    for (let n = 2; taken.has(candidate.toLowerCase()); n++) candidate = `${stem}-${n}${ext}`;
-    taken.add(candidate.toLowerCase());
+    for (let n = 2; taken.has(fold(candidate)); n++) candidate = `${stem}-${n}${ext}`;
+    taken.add(fold(candidate));
     return candidate;
   });
 }
