@@ -89,3 +89,24 @@ export async function measure(cmd: string, args: readonly string[], opts: { cwd?
     await rm(dir, { recursive: true, force: true });
   }
 }
+
+/** Samples the summed RSS of `pid` and its descendants until stop(), which returns the peak. */
+export function sampleTreeRss(pid: number): { stop: () => number } {
+  let peak = treeRss(pid);
+  const timer = setInterval(() => {
+    peak = Math.max(peak, treeRss(pid));
+  }, SAMPLE_MS);
+  return {
+    stop: () => {
+      clearInterval(timer);
+      return Math.max(peak, treeRss(pid));
+    },
+  };
+}
+
+/** User + system CPU time a running process has used so far (clock ticks of 1/100 s on Linux). */
+export function processCpuMs(pid: number): number {
+  const stat = readFileSync(`/proc/${pid}/stat`, 'latin1');
+  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  return (Number(fields[11]) + Number(fields[12])) * 10;
+}

@@ -1,0 +1,137 @@
+// A-workers: the same art through a real run: the app (API side only, no job handlers) on the bench's
+// own embedded PostgreSQL, one `npm run worker` process doing every job (run-plan, run-render per card,
+// run-assemble). Timed from startRun to the run's `done`; memory and CPU are the worker process's.
+import { spawn, type ChildProcess } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
+import { link, mkdir, rm } from 'node:fs/promises';
+import path from 'node:path';
+import { ensureDatabase } from '../scripts/db.mjs';
+import { findRunView } from '../server/db/runs.ts';
+import { insertWorkspace } from '../server/db/workspaces.ts';
+import { createLogger } from '../server/logger.ts';
+import { startServer, type RunningServer } from '../server/server.ts';
+import { importArtSetZip } from '../server/services/art-sets.ts';
+import { createRecipe } from '../server/services/recipes.ts';
+import { startRun } from '../server/services/runs.ts';
+import type { RecipeInput } from '../shared/recipe.ts';
+import { processCpuMs, sampleTreeRss } from './measure.ts';
+
+export const BENCH_DB = { dataDir: '.data/bench', port: 54349, database: 'bleedwright_bench' };
+const BOSS_SCHEMA = 'pgboss_bench';
+
+export type WorkersBench = {
+  start: () => Promise<void>;
+  /** One full run of `zip` with a recipe of its own (so no render is cached); then, when asked, a rerun. */
+  run: (zip: string, recipe: RecipeInput, label: string, fixedZip?: string | null) => Promise<WorkersResult>;
+  stop: () => Promise<void>;
+};
+
+export type WorkersResult = { wallMs: number; cpuMs: number; peakBytes: number; state: string; rerun: { wallMs: number; state: string; cached: number } | null };
+
+export function workersBench(root: string, work: string): WorkersBench {
+  let server: RunningServer | null = null;
+  let worker: ChildProcess | null = null;
+  let workspaceId = '';
+  const storageRoot = path.join(work, 'storage');
+
+  const waitForRun = async (runId: string, timeoutMs: number) => {
+    const end = Date.now() + timeoutMs;
+    for (;;) {
+      const run = await findRunView(server!.deps.db, workspaceId, runId);
+      if (run && ['done', 'failed', 'canceled'].includes(run.state)) return run;
+      if (Date.now() > end) throw new Error(`the run did not finish in ${timeoutMs / 1000} s (state ${run?.state})`);
+      await new Promise((r) => setTimeout(r, 100));
+    }
+  };
+
+  const importZip = async (zip: string, name: string, artSetId?: string) => {
+    // importArtSetZip moves (or removes) its temp file: give it a hard link of the bench zip.
+    const temp = path.join(work, `upload-${randomBytes(4).toString('hex')}.zip`);
+    await link(zip, temp);
+    return importArtSetZip({ db: server!.deps.db, storage: server!.deps.runs.storage, tmpDir: path.join(work, 'tmp') }, { workspaceId, userId: null, tempFile: temp, name, artSetId });
+  };
+
+  return {
+    async start() {
+      const databaseUrl = await ensureDatabase({ ...BENCH_DB, dataDir: path.join(root, BENCH_DB.dataDir) });
+      await rm(storageRoot, { recursive: true, force: true });
+      await mkdir(path.join(work, 'tmp'), { recursive: true });
+      server = await startServer({
+        databaseUrl,
+        port: 0,
+        mail: { catcherPort: 0 },
+        clientDir: null,
+        storageRoot,
+        sessionSecret: randomBytes(16).toString('hex'),
+        seed: false,
+        work: false,
+        inbox: null,
+        logger: createLogger('silent'),
+        runs: { tmpDir: path.join(work, 'tmp'), pollingSeconds: 0.5, maintenanceSeconds: 5, bossSchema: BOSS_SCHEMA },
+      });
+      const ws = await insertWorkspace(server.deps.db, { name: 'Bench workspace', slug: `bench-${randomBytes(4).toString('hex')}` });
+      workspaceId = ws.id;
+      worker = spawn(process.execPath, ['--import', 'tsx', 'jobs/worker-main.ts'], {
+        cwd: root,
+        env: {
+          ...process.env,
+          DATABASE_URL: databaseUrl,
+          BLEEDWRIGHT_STORAGE: storageRoot,
+          BLEEDWRIGHT_BOSS_SCHEMA: BOSS_SCHEMA,
+          BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher?.port ?? 4425),
+          BLEEDWRIGHT_PUBLIC_URL: server.url,
+          BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5',
+          BLEEDWRIGHT_WORKER_CONCURRENCY: '2',
+          BLEEDWRIGHT_TMP: path.join(work, 'tmp'),
+          LOG_LEVEL: 'warn',
+        },
+        stdio: ['ignore', 'pipe', 'pipe'],
+      });
+      let errors = '';
+      worker.stderr!.on('data', (d) => (errors += d));
+      await new Promise<void>((resolve, reject) => {
+        const timer = setTimeout(() => reject(new Error(`the worker did not start: ${errors}`)), 60_000);
+        worker!.stdout!.on('data', (d) => {
+          if (String(d).includes('worker ready')) {
+            clearTimeout(timer);
+            resolve();
+          }
+        });
+        worker!.once('exit', (code) => reject(new Error(`the worker exited with ${code}: ${errors.slice(-500)}`)));
+      });
+    },
+
+    async run(zip, recipe, label, fixedZip = null) {
+      const db = server!.deps.db;
+      const send = server!.deps.runs.send;
+      const created = await createRecipe(db, workspaceId, null, { ...recipe, name: `${recipe.name} ${label} ${randomBytes(3).toString('hex')}` });
+      const art = await importZip(zip, `bench ${label}`);
+      const pid = worker!.pid!;
+      const sampler = sampleTreeRss(pid);
+      const cpu0 = processCpuMs(pid);
+      const t0 = performance.now();
+      const runId = await startRun({ db, send }, { workspaceId, userId: null, recipeId: created.id, artSetId: art.artSetId, revision: art.revision });
+      const run = await waitForRun(runId, 60 * 60_000);
+      const wallMs = performance.now() - t0;
+      const cpuMs = processCpuMs(pid) - cpu0;
+      const peakBytes = sampler.stop();
+      let rerun: WorkersResult['rerun'] = null;
+      if (fixedZip) {
+        const fixed = await importZip(fixedZip, `bench ${label}`, art.artSetId);
+        const r0 = performance.now();
+        const rerunId = await startRun({ db, send }, { workspaceId, userId: null, recipeId: created.id, artSetId: art.artSetId, revision: fixed.revision });
+        const again = await waitForRun(rerunId, 60 * 60_000);
+        rerun = { wallMs: Math.round(performance.now() - r0), state: again.state, cached: again.counts?.cached ?? 0 };
+      }
+      return { wallMs: Math.round(wallMs), cpuMs, peakBytes, state: run.state, rerun };
+    },
+
+    async stop() {
+      if (worker && worker.exitCode === null) {
+        worker.kill('SIGTERM');
+        await new Promise((r) => worker!.once('exit', r));
+      }
+      await server?.close();
+    },
+  };
+}

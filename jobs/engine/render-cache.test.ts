@@ -1,0 +1,99 @@
+// The render cache behind reruns (runEngine cacheDir) and the bundle's zip writer.
+import { spawnSync } from 'node:child_process';
+import { mkdir, mkdtemp, readdir, readFile, stat, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import sharp from 'sharp';
+import { describe, expect, it } from 'vitest';
+import { parseRecipe } from '../../shared/recipe.ts';
+import { runEngine } from './run.ts';
+import { writeZip } from './zip-writer.ts';
+
+const recipe = parseRecipe(
+  JSON.stringify({ name: 'Cache deck', trim: 'poker', dpi: 100, sheet: { multiple: 1, pad: 'none' }, outputs: { singles: 'png', pdf: true, sheets: null, proof: false } }),
+);
+
+function art(color: string): Promise<Buffer> {
+  return sharp({ create: { width: 250, height: 350, channels: 3, background: color } }).png().toBuffer();
+}
+
+async function artSet(files: Record<string, Buffer>): Promise<string> {
+  const dir = await mkdtemp(path.join(tmpdir(), 'bw-cache-art-'));
+  for (const [name, data] of Object.entries(files)) await writeFile(path.join(dir, name), data);
+  return dir;
+}
+
+async function cards(outDir: string): Promise<Record<string, Buffer>> {
+  const names = (await readdir(path.join(outDir, 'cards'))).sort();
+  return Object.fromEntries(await Promise.all(names.map(async (n) => [n, await readFile(path.join(outDir, 'cards', n))] as const)));
+}
+
+describe('render cache', () => {
+  it('reuses unchanged cards on a rerun and renders only the changed one, with the same outputs as no cache', async () => {
+    const base = await mkdtemp(path.join(tmpdir(), 'bw-cache-'));
+    const cacheDir = path.join(base, 'cache');
+    const first = await artSet({ 'a.png': await art('#aa2233'), 'b.png': await art('#2233aa') });
+    await runEngine({ source: first, recipe, outDir: path.join(base, 'one'), cacheDir });
+    const cached = (await readdir(cacheDir)).filter((f) => f.endsWith('.png')).sort();
+    expect(cached).toHaveLength(2);
+    const stamps = await Promise.all(cached.map(async (f) => (await stat(path.join(cacheDir, f))).mtimeMs));
+
+    // b.png fixed: one new render; a.png's cached file is left as it was.
+    const second = await artSet({ 'a.png': await art('#aa2233'), 'b.png': await art('#22aa33') });
+    const rerun = await runEngine({ source: second, recipe, outDir: path.join(base, 'two'), cacheDir });
+    const after = (await readdir(cacheDir)).filter((f) => f.endsWith('.png')).sort();
+    expect(after).toHaveLength(3);
+    for (const [i, f] of cached.entries()) expect((await stat(path.join(cacheDir, f))).mtimeMs).toBe(stamps[i]);
+    expect(rerun.report.totals.cards).toBe(2);
+
+    // Same bytes as a run without any cache, and the findings survive the round trip.
+    const plain = await runEngine({ source: second, recipe, outDir: path.join(base, 'plain'), cacheDir: null });
+    expect(await cards(path.join(base, 'two'))).toEqual(await cards(path.join(base, 'plain')));
+    expect(rerun.report.cards).toEqual(plain.report.cards);
+
+    // A recipe change that alters pixels (resolution) misses the cache.
+    await runEngine({ source: second, recipe: { ...recipe, dpi: 120 }, outDir: path.join(base, 'dpi'), cacheDir });
+    expect((await readdir(cacheDir)).filter((f) => f.endsWith('.png'))).toHaveLength(5);
+  });
+
+  it('remembers rejected art too', async () => {
+    const base = await mkdtemp(path.join(tmpdir(), 'bw-cache-'));
+    const cacheDir = path.join(base, 'cache');
+    const set = await artSet({ 'a.png': await art('#445566'), 'broken.png': Buffer.from('not a picture') });
+    const one = await runEngine({ source: set, recipe, outDir: path.join(base, 'one'), cacheDir });
+    const two = await runEngine({ source: set, recipe, outDir: path.join(base, 'two'), cacheDir });
+    expect(one.exitCode).toBe(1);
+    expect(two.report.cards).toEqual(one.report.cards);
+    expect(two.report.cards.find((c) => c.source === 'broken.png')?.state).toBe('skipped');
+  });
+});
+
+describe('bundle zip writer', () => {
+  it('writes a zip that unzip tests clean, with stored and deflated entries and the same bytes every time', async () => {
+    const dir = await mkdtemp(path.join(tmpdir(), 'bw-zip-'));
+    await mkdir(path.join(dir, 'cards'));
+    const png = await art('#123456');
+    await writeFile(path.join(dir, 'cards', 'kärt 1.png'), png);
+    const text = 'source,state\n'.repeat(2000);
+    await writeFile(path.join(dir, 'report.csv'), text);
+    const entries = [
+      { file: path.join(dir, 'cards', 'kärt 1.png'), name: 'cards/kärt 1.png', compress: false },
+      { file: path.join(dir, 'report.csv'), name: 'report.csv', compress: true },
+    ];
+    const stamp = new Date(Date.UTC(2020, 0, 1));
+    await writeZip(path.join(dir, 'one.zip'), entries, stamp);
+    await writeZip(path.join(dir, 'two.zip'), entries, stamp);
+    expect(await readFile(path.join(dir, 'one.zip'))).toEqual(await readFile(path.join(dir, 'two.zip')));
+
+    // Info-ZIP's unzip (Debian package) as the outside check: CRCs, sizes, names, methods.
+    const check = spawnSync('unzip', ['-t', path.join(dir, 'one.zip')], { encoding: 'utf8' });
+    expect(check.status).toBe(0);
+    expect(check.stdout).toContain('No errors detected');
+    const listing = spawnSync('unzip', ['-Z', '-v', path.join(dir, 'one.zip')], { encoding: 'utf8' }).stdout;
+    expect(listing).toMatch(/compression method:\s+none \(stored\)/);
+    expect(listing).toMatch(/compression method:\s+deflated/);
+    expect(listing).toContain('file last modified on (DOS date/time):          2020 Jan 1 00:00:00');
+    expect(spawnSync('unzip', ['-p', path.join(dir, 'one.zip'), 'cards/kärt 1.png']).stdout).toEqual(png);
+    expect(spawnSync('unzip', ['-p', path.join(dir, 'one.zip'), 'report.csv'], { encoding: 'utf8' }).stdout).toBe(text);
+  });
+});
