@@ -21,6 +21,7 @@ let server: RunningServer;
 let browser: Browser;
 let fx: WorkspaceFixture;
 let runId: string;
+let recipeId: string;
 let cardIds: string[];
 // Its own job schema, so workers of other test servers on the shared cluster never take its jobs.
 const bossSchema = `pgboss_d${randomBytes(4).toString('hex')}`;
@@ -46,6 +47,7 @@ beforeAll(async () => {
     settings: smallRecipe('Lantern deck', { back: { art: 'back.png', placement: 'last' }, sheet: { multiple: 4, pad: 'blank' } }),
   });
   expect(recipe.status).toBe(201);
+  recipeId = recipe.body.recipe.id;
   const files = { ...(await cardSet(5)), 'card-03.png': await cardPng(3, 0, { w: 100, h: 140 }), 'back.png': await cardPng(99, 2) };
   const art = await upload(fx.actors.maker, `${api}/art-sets`, [{ field: 'file', name: 'art.zip', data: await readFile(await zipOf(files)) }], { name: 'Lantern art' });
   expect(art.status).toBe(201);
@@ -121,6 +123,18 @@ describe('browser: dashboard and print planning', () => {
     expect(await page.getByTestId('preview-turn-result').getAttribute('data-turn')).toBe('counterclockwise');
     await page.screenshot({ path: `${SCREENSHOTS}/card-preview.png`, fullPage: true });
 
+    // The same preview in the recipe editor follows the form as it is edited.
+    await page.goto(`${ws}/recipes/${recipeId}`);
+    await page.getByTestId('recipe-preview').waitFor();
+    expect(await text(page, 'preview-dim-width')).toBe('2.5 in');
+    await page.getByLabel('Trim size').selectOption('bridge');
+    expect(await text(page, 'preview-dim-width')).toBe('2.25 in'); // bridge 2.25 x 3.5 in: common practice
+    await page.getByLabel('Bleed unit', { exact: true }).selectOption('mm');
+    await page.getByLabel('Bleed', { exact: true }).fill('3');
+    expect(await text(page, 'preview-dim-width')).toBe('57.15 mm');
+    expect(await text(page, 'preview-bleed')).toBe('3 mm');
+    await page.screenshot({ path: `${SCREENSHOTS}/recipe-editor-preview.png`, fullPage: true });
+
     // Deck by press sheets: 5 faces padded to 8 at 4 a sheet; the back page is not a slot.
     await page.goto(`${ws}/runs/${runId}/deck`);
     await page.getByTestId('deck-view').waitFor();
@@ -189,6 +203,12 @@ describe('browser: dashboard and print planning', () => {
     expect(await page.locator('[data-testid="plan-tiers"] tr[data-cheapest]').textContent()).toContain('up to 18 cards');
     expect(await page.getByTestId('plan-suggestions').textContent()).toContain('13');
     await page.screenshot({ path: `${SCREENSHOTS}/planner.png`, fullPage: true });
+
+    // From the run page to the proof viewer.
+    await page.goto(`${ws}/runs/${runId}`);
+    await page.getByRole('navigation', { name: 'Look at this run' }).getByRole('link', { name: 'Inspect cards' }).click();
+    await page.waitForURL(new RegExp(`/runs/${runId}/cards/${cardIds[0]}$`));
+    await page.getByTestId('proof-card').waitFor();
 
     // Members: what each role may do, beside the people.
     await page.goto(`${ws}/members`);

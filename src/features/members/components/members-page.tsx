@@ -91,12 +91,14 @@ export function MembersPage() {
             <ErrorNote error={remove.error} />
           </div>
         </Panel>
-        <div className="space-y-8">
-          {isOwner && <InviteForm workspaceId={workspaceId} />}
-          {isOwner && <PendingInvites workspaceId={workspaceId} />}
-          <RolesPanel />
-        </div>
+        {isOwner && (
+          <div className="space-y-8">
+            <InviteForm workspaceId={workspaceId} />
+            <PendingInvites workspaceId={workspaceId} />
+          </div>
+        )}
       </div>
+      <RolesPanel />
     </>
   );
 }
@@ -184,7 +186,7 @@ const ROLE_RIGHTS: Array<{ what: string; owner: boolean; maker: boolean; helper:
 
 function RolesPanel() {
   return (
-    <Panel title="What each role may do">
+    <Panel title="What each role may do" className="mt-8 max-w-3xl">
       <table className="w-full text-left text-sm" data-testid="role-rights">
         <caption className="sr-only">What owners, makers and helpers may do</caption>
         <thead className="text-ink-soft">
@@ -193,7 +195,7 @@ function RolesPanel() {
               <span className="sr-only">Action</span>
             </th>
             {(['owner', 'maker', 'helper'] as const).map((r) => (
-              <th key={r} scope="col" className="pb-2 text-center font-medium">
+              <th key={r} scope="col" className="w-24 pb-2 text-center font-medium">
                 <RoleBadge role={r} />
               </th>
             ))}

@@ -10,6 +10,7 @@ import { useRecipe } from '../api/get-recipe';
 import { useRecipeVersion } from '../api/get-recipe-version';
 import { useSaveRecipe } from '../api/save-recipe';
 import { GeometryPanel, RecipeForm, issuesByPath, labelFor, type Issues } from './recipe-form';
+import { RecipePreview } from '../../recipe-preview/components/recipe-preview';
 
 /** A new recipe starts from the schema's own defaults (poker, 1/8 in bleed, 300 DPI). */
 function defaultRecipe(): Recipe {
@@ -91,6 +92,9 @@ function EditorBody({ workspaceId, detail, initialNote }: { workspaceId: string;
           <RecipeForm value={form} onChange={change} issues={issues} readOnly={!canWrite} />
         </Panel>
         <div className="space-y-6 xl:sticky xl:top-8">
+          <Panel title="Preview">
+            <RecipePreview settings={form} />
+          </Panel>
           <Panel title="Page geometry">
             <GeometryPanel recipe={form} sizeIssue={Object.keys(clientIssues).some((k) => /^(trim|bleed|safe|dpi)\b/.test(k))} />
           </Panel>

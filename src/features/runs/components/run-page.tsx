@@ -14,6 +14,7 @@ import type { RunCard, RunDetail, RunOutput, Severity } from '../api/types';
 import { settledCards } from './runs-page';
 import { ShareLinksPanel } from './share-links-panel';
 import { useCanWrite } from './use-can-write';
+import { RunViewsNav } from '../../deck/components/run-views-nav';
 
 const OUTPUT_LABELS: Record<RunOutput['kind'], string> = {
   pdf: 'Combined PDF',
@@ -44,6 +45,7 @@ export function RunPage() {
   return (
     <>
       <PageHeader eyebrow="Run" title={`${r.recipe.name} on ${r.artSet.name}`}>
+        <RunViewsNav workspaceId={workspaceId} runId={r.id} />
         <Link to=".." relative="path" className="text-sm font-semibold text-cut underline-offset-4 hover:underline">
           All runs
         </Link>
