@@ -1,8 +1,8 @@
 // A small streaming zip writer for bundles (PKWARE APPNOTE 6.3: local headers, central directory,
 // end record; Zip64 records when a size or offset passes 4 GiB). It exists for speed: the CRC-32 of
 // every file is taken with zlib's native crc32 (a bundle of 1,000 cards holds about 2 GB, which
-// yazl's JavaScript CRC needed seconds for). Sizes and CRCs are known before each local header is
-// written, so no data descriptors are needed; big files are streamed, never held in memory whole.
+// yazl's JavaScript CRC needed seconds for). Stored files are read once: streamed out while their CRC
+// is taken, which then follows in a data descriptor (APPNOTE 4.3.9); nothing is held in memory whole.
 import { createReadStream, createWriteStream, type WriteStream } from 'node:fs';
 import { once } from 'node:events';
 import { readFile, stat } from 'node:fs/promises';
@@ -20,6 +20,7 @@ export type ZipFileEntry = {
 const U32 = 0xffffffff;
 const U16 = 0xffff;
 const UTF8_FLAG = 0x800;
+const DESCRIPTOR_FLAG = 0x8;
 const MADE_BY_UNIX = (3 << 8) | 45;
 const MODE_FILE = 0o100644;
 const READ_CHUNK = 1024 * 1024;
@@ -32,7 +33,7 @@ function dosDateTime(d: Date): { date: number; time: number } {
   };
 }
 
-type Written = { name: Buffer; crc: number; size: number; compressedSize: number; offset: number; method: number };
+type Written = { name: Buffer; crc: number; size: number; compressedSize: number; offset: number; method: number; descriptor: boolean };
 
 class Output {
   private readonly out: WriteStream;
@@ -53,34 +54,48 @@ class Output {
   }
 }
 
-async function fileCrc(file: string): Promise<number> {
-  let crc = 0;
-  for await (const chunk of createReadStream(file, { highWaterMark: READ_CHUNK })) crc = crc32(chunk as Buffer, crc);
-  return crc;
-}
-
+/** With a data descriptor, CRC and sizes are 0 here (APPNOTE 4.4.4); a Zip64 entry says so with its extra field. */
 function localHeader(e: Written, stamp: { date: number; time: number }): Buffer {
   const zip64 = e.size >= U32 || e.compressedSize >= U32;
   const extra = zip64 ? Buffer.alloc(20) : Buffer.alloc(0);
   if (zip64) {
     extra.writeUInt16LE(0x0001, 0);
     extra.writeUInt16LE(16, 2);
-    extra.writeBigUInt64LE(BigInt(e.size), 4);
-    extra.writeBigUInt64LE(BigInt(e.compressedSize), 12);
+    if (!e.descriptor) {
+      extra.writeBigUInt64LE(BigInt(e.size), 4);
+      extra.writeBigUInt64LE(BigInt(e.compressedSize), 12);
+    }
   }
+  const known = !e.descriptor;
   const h = Buffer.alloc(30);
   h.writeUInt32LE(0x04034b50, 0);
   h.writeUInt16LE(zip64 ? 45 : 20, 4);
-  h.writeUInt16LE(UTF8_FLAG, 6);
+  h.writeUInt16LE(UTF8_FLAG | (e.descriptor ? DESCRIPTOR_FLAG : 0), 6);
   h.writeUInt16LE(e.method, 8);
   h.writeUInt16LE(stamp.time, 10);
   h.writeUInt16LE(stamp.date, 12);
-  h.writeUInt32LE(e.crc, 14);
-  h.writeUInt32LE(zip64 ? U32 : e.compressedSize, 18);
-  h.writeUInt32LE(zip64 ? U32 : e.size, 22);
+  h.writeUInt32LE(known ? e.crc : 0, 14);
+  h.writeUInt32LE(zip64 ? U32 : known ? e.compressedSize : 0, 18);
+  h.writeUInt32LE(zip64 ? U32 : known ? e.size : 0, 22);
   h.writeUInt16LE(e.name.length, 26);
   h.writeUInt16LE(extra.length, 28);
   return Buffer.concat([h, e.name, extra]);
+}
+
+/** Data descriptor after the data: 8-byte sizes for a Zip64 entry (APPNOTE 4.3.9.2). */
+function dataDescriptor(e: Written): Buffer {
+  const zip64 = e.size >= U32 || e.compressedSize >= U32;
+  const d = Buffer.alloc(zip64 ? 24 : 16);
+  d.writeUInt32LE(0x08074b50, 0);
+  d.writeUInt32LE(e.crc, 4);
+  if (zip64) {
+    d.writeBigUInt64LE(BigInt(e.compressedSize), 8);
+    d.writeBigUInt64LE(BigInt(e.size), 16);
+  } else {
+    d.writeUInt32LE(e.compressedSize, 8);
+    d.writeUInt32LE(e.size, 12);
+  }
+  return d;
 }
 
 function centralHeader(e: Written, stamp: { date: number; time: number }): Buffer {
@@ -99,7 +114,7 @@ function centralHeader(e: Written, stamp: { date: number; time: number }): Buffe
   h.writeUInt32LE(0x02014b50, 0);
   h.writeUInt16LE(MADE_BY_UNIX, 4);
   h.writeUInt16LE(big.length ? 45 : 20, 6);
-  h.writeUInt16LE(UTF8_FLAG, 8);
+  h.writeUInt16LE(UTF8_FLAG | (e.descriptor ? DESCRIPTOR_FLAG : 0), 8);
   h.writeUInt16LE(e.method, 10);
   h.writeUInt16LE(stamp.time, 12);
   h.writeUInt16LE(stamp.date, 14);
@@ -154,20 +169,23 @@ export async function writeZip(target: string, entries: readonly ZipFileEntry[],
       if (entry.compress) {
         const data = await readFile(entry.file);
         const deflated = deflateRawSync(data);
-        const e = { name, crc: crc32(data), size: data.length, compressedSize: deflated.length, offset, method: 8 };
+        const e = { name, crc: crc32(data), size: data.length, compressedSize: deflated.length, offset, method: 8, descriptor: false };
         await out.write(localHeader(e, stamp));
         await out.write(deflated);
         written.push(e);
       } else {
+        // The size (from stat) decides up front whether the entry needs Zip64 records.
         const { size } = await stat(entry.file);
-        const e = { name, crc: await fileCrc(entry.file), size, compressedSize: size, offset, method: 0 };
+        const e = { name, crc: 0, size, compressedSize: size, offset, method: 0, descriptor: true };
         await out.write(localHeader(e, stamp));
         let copied = 0;
         for await (const chunk of createReadStream(entry.file, { highWaterMark: READ_CHUNK })) {
           copied += (chunk as Buffer).length;
+          e.crc = crc32(chunk as Buffer, e.crc);
           await out.write(chunk as Buffer);
         }
         if (copied !== size) throw new Error(`"${entry.name}" changed size while it was being zipped`);
+        await out.write(dataDescriptor(e));
         written.push(e);
       }
     }
