@@ -81,7 +81,8 @@ async function signIn(page: Page, email: string) {
   await page.getByLabel('E-mail').fill(email);
   await page.getByLabel('Password').fill(TEST_PASSWORD);
   await page.getByRole('button', { name: 'Sign in' }).click();
-  await page.getByRole('heading', { level: 1 }).waitFor();
+  await page.waitForURL((url) => !url.pathname.startsWith('/sign-in'));
+  await page.getByRole('navigation', { name: 'Workspace' }).waitFor();
 }
 
 const text = (page: Page, testId: string) => page.getByTestId(testId).first().textContent();
@@ -227,6 +228,44 @@ describe('browser: dashboard and print planning', () => {
     await page.screenshot({ path: `${SCREENSHOTS}/planner-tablet.png`, fullPage: true });
 
     expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it('a 1,000-card deck draws only the press sheets in view and scrolls to the last one', { timeout: 120_000 }, async () => {
+    // A run row with 1,000 settled cards written straight into PostgreSQL: this is about the page's
+    // windowing, not rendering, so the cards have no images (their thumbnails answer 404).
+    const db = server.deps.db;
+    const model = await db('runs').where({ id: runId }).first();
+    const [big] = await db('runs')
+      .insert({ workspace_id: model.workspace_id, recipe_version_id: model.recipe_version_id, art_set_revision_id: model.art_set_revision_id, state: 'done', created_by: model.created_by, finished_at: db.fn.now() })
+      .returning('id');
+    const rows = Array.from({ length: 1000 }, (_, i) => ({
+      run_id: big.id,
+      seq: i + 1,
+      source: `bulk/card-${String(i + 1).padStart(4, '0')}.png`,
+      role: 'front',
+      state: 'done',
+      source_sha256: 'x'.repeat(64),
+      outputs: JSON.stringify([`card-${i + 1}.png`]),
+    }));
+    await db.batchInsert('run_cards', rows, 250);
+
+    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const page = await context.newPage();
+    await signIn(page, fx.users.maker.email);
+    const started = Date.now();
+    await page.goto(`${server.url}/w/${fx.workspaceId}/runs/${big.id}/deck`);
+    const view = page.getByTestId('deck-view');
+    await view.waitFor();
+    // The recipe pads to sheets of 4 with blanks: 1,000 is already a multiple, so 250 sheets, no padding.
+    expect(await view.getAttribute('data-sheets')).toBe('250');
+    expect(await page.locator('[data-testid="deck-slot"]').count()).toBeLessThan(120);
+    expect(Date.now() - started).toBeLessThan(15_000);
+    await view.evaluate((el) => el.scrollTo({ top: el.scrollHeight }));
+    await page.getByRole('region', { name: 'Press sheet 250: slots 997 to 1000' }).waitFor();
+    expect(await page.locator('[data-testid="deck-slot"]').count()).toBeLessThan(120);
+    expect(await page.getByRole('region', { name: 'Press sheet 1: slots 1 to 4' }).count()).toBe(0);
+    await page.screenshot({ path: `${SCREENSHOTS}/deck-1000.png` });
     await context.close();
   });
 });
