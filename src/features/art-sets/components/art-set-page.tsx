@@ -37,7 +37,7 @@ export function ArtSetPage() {
         <div className="space-y-8">
           <Panel title="Files">
             <div className="mb-4 flex flex-wrap items-end justify-between gap-4">
-              <div className="w-64">
+              <div className="w-full max-w-sm">
                 <ChoiceField label="Revision" value={a.revision} onChange={(e) => showRevision(Number(e.target.value))}>
                   {[...a.revisions]
                     .sort((x, y) => y.revision - x.revision)
