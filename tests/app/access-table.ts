@@ -1,9 +1,10 @@
 // The access table: every route x every kind of caller, with the status each must get.
 // Later issues add rows to ROUTES (and fixtures to RouteContext when they need objects to act on).
+import type { Express } from 'express';
 import type { Knex } from 'knex';
 import type { RunningServer } from '../../server/server.ts';
 import { upsertMembership } from '../../server/db/memberships.ts';
-import { createUser, uniqueEmail, waitForMailLink, type ActorName, type WorkspaceFixture } from './fixtures.ts';
+import { TEST_PASSWORD, createUser, uniqueEmail, waitForMailLink, type ActorName, type WorkspaceFixture } from './fixtures.ts';
 import { RUN_ROUTES } from './runs-access.ts';
 
 export interface RouteContext {
@@ -18,6 +19,37 @@ export interface AccessRow {
   /** Builds the path; may create a fresh object to act on (called once per row). */
   prepare: (ctx: RouteContext) => Promise<{ path: string; body?: unknown }>;
   expect: Record<ActorName, number>;
+  /** Each caller acts through a fresh session of its own (sign-in and sign-out would end the shared ones). */
+  fresh?: boolean;
+}
+
+export type ApiRoute = { method: string; path: string };
+
+/**
+ * Every route the Express app serves under /api, read from its router stacks (Express 5 keeps each
+ * mount path in `rawPath`), e.g. `{ method: 'GET', path: '/api/workspaces/:workspaceId/runs/:runId' }`.
+ */
+export function listApiRoutes(app: Express): ApiRoute[] {
+  type Layer = { route?: { path: string; methods: Record<string, boolean> }; handle?: { stack?: Layer[] }; rawPath?: string };
+  const out: ApiRoute[] = [];
+  const walk = (stack: Layer[], prefix: string) => {
+    for (const layer of stack) {
+      if (layer.route) {
+        const path = prefix + (layer.route.path === '/' ? '' : layer.route.path);
+        for (const method of Object.keys(layer.route.methods)) if (path.startsWith('/api/')) out.push({ method: method.toUpperCase(), path });
+      } else if (layer.handle?.stack) {
+        walk(layer.handle.stack, prefix + (typeof layer.rawPath === 'string' && layer.rawPath !== '/' ? layer.rawPath : ''));
+      }
+    }
+  };
+  walk((app as unknown as { router: { stack: Layer[] } }).router.stack, '');
+  return out;
+}
+
+/** The route pattern a concrete path (query string ignored) belongs to, or null. */
+export function routeOf(routes: readonly ApiRoute[], method: string, path: string): ApiRoute | null {
+  const bare = path.split('?')[0]!;
+  return routes.find((r) => r.method === method && new RegExp(`^${r.path.replace(/:[A-Za-z]+/g, '[^/]+')}$`).test(bare)) ?? null;
 }
 
 export const PUBLIC = { anonymous: 200, outsider: 200, helper: 200, maker: 200, owner: 200 };
@@ -60,6 +92,14 @@ export const WRITERS = (ok: number) => ({ anonymous: 401, outsider: 404, helper:
 export const ROUTES: AccessRow[] = [
   { name: 'health', method: 'GET', prepare: async () => ({ path: '/api/health' }), expect: PUBLIC },
   { name: 'session', method: 'GET', prepare: async () => ({ path: '/api/session' }), expect: PUBLIC },
+  {
+    name: 'sign in',
+    method: 'POST',
+    prepare: async (ctx) => ({ path: '/api/session', body: { email: (await createUser(ctx.db, 'signin')).email, password: TEST_PASSWORD } }),
+    expect: PUBLIC,
+    fresh: true,
+  },
+  { name: 'sign out', method: 'DELETE', prepare: async () => ({ path: '/api/session' }), expect: { anonymous: 204, outsider: 204, helper: 204, maker: 204, owner: 204 }, fresh: true },
   { name: 'list workspaces', method: 'GET', prepare: async () => ({ path: '/api/workspaces' }), expect: SIGNED_IN },
   { name: 'workspace', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}` }), expect: MEMBERS },
   { name: 'list members', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/members` }), expect: MEMBERS },
@@ -90,6 +130,13 @@ export const ROUTES: AccessRow[] = [
   },
   { name: 'captured mail', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/mail` }), expect: OWNERS(200) },
   { name: 'invite preview', method: 'GET', prepare: async (ctx) => ({ path: `/api/invites/${(await pendingInvite(ctx)).token}` }), expect: PUBLIC },
+  {
+    // Without a password nobody can take it: anonymous callers must choose one, accounts that are not the invited one are refused.
+    name: 'accept invite',
+    method: 'POST',
+    prepare: async (ctx) => ({ path: `/api/invites/${(await pendingInvite(ctx)).token}/accept`, body: {} }),
+    expect: { anonymous: 400, outsider: 403, helper: 403, maker: 403, owner: 403 },
+  },
   { name: 'list price sheets', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/price-sheets` }), expect: MEMBERS },
   {
     name: 'create price sheet',

@@ -26,7 +26,7 @@ async function artSetId(ctx: RouteContext): Promise<string> {
 }
 
 /** A run row as the jobs leave it: done with one card and a report, or still queued. */
-async function runFixture(ctx: RouteContext, state: 'done' | 'queued' = 'done'): Promise<{ runId: string; cardId: string }> {
+export async function runFixture(ctx: RouteContext, state: 'done' | 'queued' = 'done'): Promise<{ runId: string; cardId: string }> {
   const recipe = await recipeId(ctx);
   const set = await artSetId(ctx);
   const version = await ctx.db('recipe_versions').where({ recipe_id: recipe }).first('id');
@@ -53,7 +53,7 @@ async function runFixture(ctx: RouteContext, state: 'done' | 'queued' = 'done'):
   return { runId: run.id, cardId: card.id };
 }
 
-async function shareFixture(ctx: RouteContext): Promise<{ runId: string; shareId: string; token: string }> {
+export async function shareFixture(ctx: RouteContext): Promise<{ runId: string; shareId: string; token: string }> {
   const { runId } = await runFixture(ctx);
   const token = `access${Math.random().toString(36).slice(2)}${'a'.repeat(20)}`;
   const [row] = await ctx.db('share_links')
@@ -89,6 +89,8 @@ export const RUN_ROUTES: AccessRow[] = [
     expect: WRITERS(201),
   },
   { name: 'run', method: 'GET', prepare: async (ctx) => ({ path: `${ws(ctx)}/runs/${(await runFixture(ctx)).runId}` }), expect: MEMBERS },
+  // Server-sent events; a finished run sends its detail once and ends the stream.
+  { name: 'run events', method: 'GET', prepare: async (ctx) => ({ path: `${ws(ctx)}/runs/${(await runFixture(ctx)).runId}/events` }), expect: MEMBERS },
   { name: 'run cards', method: 'GET', prepare: async (ctx) => ({ path: `${ws(ctx)}/runs/${(await runFixture(ctx)).runId}/cards` }), expect: MEMBERS },
   {
     name: 'card image',
