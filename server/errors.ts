@@ -7,6 +7,8 @@ export class AppError extends Error {
     readonly status: number,
     readonly code: string,
     message: string,
+    /** Extra response headers, e.g. Retry-After on a 429. */
+    readonly headers: Record<string, string> = {},
   ) {
     super(message);
   }
@@ -30,6 +32,7 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     return;
   }
   if (err instanceof AppError) {
+    for (const [name, value] of Object.entries(err.headers)) res.setHeader(name, value);
     res.status(err.status).json({ error: { code: err.code, message: err.message } });
     return;
   }
