@@ -1,0 +1,210 @@
+// Access hardening (issue 6): CSRF on every cookie-authenticated write (enumerated from the app's
+// routers), a removed member's session stops working at once, sign-in guessing gets 429 with
+// Retry-After and the real user gets back in after the window, tampered share links are refused, and
+// the security headers are on every page, HTML and API alike.
+import { createServer, type Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { randomUUID } from 'node:crypto';
+import { existsSync } from 'node:fs';
+import { resolve } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createApp } from '../../server/app.ts';
+import type { AppDeps } from '../../server/context.ts';
+import { upsertMembership } from '../../server/db/memberships.ts';
+import type { RunningServer } from '../../server/server.ts';
+import { SIGN_IN_MAX_FAILURES, SIGN_IN_WINDOW_MS } from '../../server/services/auth.ts';
+import { listApiRoutes, type ApiRoute } from './access-table.ts';
+import { Actor, TEST_PASSWORD, createUser, createWorkspaceFixture, startTestServer, type WorkspaceFixture } from './fixtures.ts';
+import { runFixture, shareFixture } from './runs-access.ts';
+
+const CLIENT_DIR = resolve('dist');
+
+let server: RunningServer;
+let fx: WorkspaceFixture;
+let routes: ApiRoute[];
+
+beforeAll(async () => {
+  server = await startTestServer({ clientDir: CLIENT_DIR });
+  fx = await createWorkspaceFixture(server.deps.db, server.url);
+  routes = listApiRoutes(createApp(server.deps));
+});
+afterAll(() => server?.close());
+
+/** A concrete path for a route pattern: this workspace, made-up ids for everything else. */
+function fill(route: ApiRoute): string {
+  return route.path.replace(/:([A-Za-z]+)/g, (_m, name: string) => (name === 'workspaceId' ? fx.workspaceId : name === 'token' ? 'x'.repeat(32) : name === 'version' || name === 'revision' ? '1' : name === 'name' ? 'report.json' : randomUUID()));
+}
+
+/** The app on its own port with other deps (a clock to move), sharing the test server's database. */
+async function appWith(overrides: Partial<AppDeps>): Promise<{ url: string; close: () => Promise<void> }> {
+  const http: Server = createServer(createApp({ ...server.deps, ...overrides }));
+  await new Promise<void>((r) => http.listen(0, '127.0.0.1', r));
+  return {
+    url: `http://127.0.0.1:${(http.address() as AddressInfo).port}`,
+    close: () =>
+      new Promise<void>((r) => {
+        http.closeAllConnections();
+        http.close(() => r());
+      }),
+  };
+}
+
+describe('CSRF', () => {
+  it('refuses every cookie-authenticated write without the token, or with another session’s token, before any handler runs', async () => {
+    const writes = routes.filter((r) => r.method !== 'GET');
+    expect(writes.length).toBeGreaterThan(20);
+    const owner = fx.actors.owner;
+    const otherToken = fx.actors.maker.csrfToken!;
+    for (const route of writes) {
+      const path = fill(route);
+      const none = await owner.request(route.method, path, {}, { csrf: false });
+      expect(none.status, `${route.method} ${route.path}`).toBe(403);
+      expect(none.body.error.code, `${route.method} ${route.path}`).toBe('CSRF');
+      const saved = owner.csrfToken;
+      owner.csrfToken = otherToken;
+      const foreign = await owner.request(route.method, path, {});
+      owner.csrfToken = saved;
+      expect(foreign.status, `${route.method} ${route.path} with the maker's token`).toBe(403);
+    }
+    // Nothing was changed by any of them: the owner is still signed in and still the owner.
+    expect((await owner.get(`/api/workspaces/${fx.workspaceId}/members`)).status).toBe(200);
+  });
+});
+
+describe('sessions follow membership at once', () => {
+  it('a removed member’s open session loses the workspace on the next request; a demoted maker cannot write', async () => {
+    const member = await createUser(server.deps.db, 'leaving');
+    await upsertMembership(server.deps.db, fx.workspaceId, member.id, 'maker');
+    const tab = await Actor.signedIn(server.url, member.email);
+    expect((await tab.get(`/api/workspaces/${fx.workspaceId}/recipes`)).status).toBe(200);
+
+    expect((await fx.actors.owner.patch(`/api/workspaces/${fx.workspaceId}/members/${member.id}`, { role: 'helper' })).status).toBe(204);
+    const write = await tab.post(`/api/workspaces/${fx.workspaceId}/recipes`, { settings: { name: 'After demotion' } });
+    expect(write.status).toBe(403);
+    expect(write.body.error.code).toBe('FORBIDDEN');
+
+    expect((await fx.actors.owner.delete(`/api/workspaces/${fx.workspaceId}/members/${member.id}`)).status).toBe(204);
+    for (const path of [`/api/workspaces/${fx.workspaceId}`, `/api/workspaces/${fx.workspaceId}/recipes`, `/api/workspaces/${fx.workspaceId}/runs`]) {
+      expect((await tab.get(path)).status, path).toBe(404);
+    }
+    expect((await tab.get('/api/workspaces')).body.map((w: { id: string }) => w.id)).not.toContain(fx.workspaceId);
+  });
+
+  it('a deleted account’s session is signed out at once', async () => {
+    const gone = await createUser(server.deps.db, 'deleted');
+    const tab = await Actor.signedIn(server.url, gone.email);
+    expect((await tab.get('/api/workspaces')).status).toBe(200);
+    await server.deps.db('users').where({ id: gone.id }).delete();
+    expect((await tab.get('/api/workspaces')).status).toBe(401);
+    expect((await tab.get('/api/session')).body.user).toBeNull();
+  });
+});
+
+describe('sign-in rate limit', () => {
+  it('answers 429 with Retry-After after repeated failures, and lets the real user in once the window has passed', async () => {
+    let now = Date.now();
+    const app = await appWith({ clock: () => new Date(now) });
+    try {
+      const target = (await createUser(server.deps.db, 'guarded')).email;
+      const guesser = await Actor.anonymous(app.url);
+      for (let i = 0; i < SIGN_IN_MAX_FAILURES; i++) expect((await guesser.post('/api/session', { email: target, password: `guess-${i}-x` })).status).toBe(401);
+      const blocked = await guesser.post('/api/session', { email: target.toUpperCase(), password: 'one-more-guess' });
+      expect(blocked.status).toBe(429);
+      expect(blocked.body.error.code).toBe('TOO_MANY_ATTEMPTS');
+      // RFC 9110 10.2.3: Retry-After in seconds; the window is 15 minutes from the first failure.
+      const retryAfter = Number(blocked.headers.get('retry-after'));
+      expect(retryAfter).toBeGreaterThan(0);
+      expect(retryAfter).toBeLessThanOrEqual(SIGN_IN_WINDOW_MS / 1000);
+      // The real user is held off too while the window lasts (the right password is not tried)...
+      const realUser = await Actor.anonymous(app.url);
+      expect((await realUser.post('/api/session', { email: target, password: TEST_PASSWORD })).status).toBe(429);
+      // ...another address is not affected...
+      const other = (await createUser(server.deps.db, 'neighbour')).email;
+      expect((await realUser.post('/api/session', { email: other, password: TEST_PASSWORD })).status).toBe(200);
+      // ...and after Retry-After seconds the real user signs in.
+      now += retryAfter * 1000;
+      const back = await Actor.anonymous(app.url);
+      const ok = await back.post('/api/session', { email: target, password: TEST_PASSWORD });
+      expect(ok.status).toBe(200);
+      expect(ok.body.user.email).toBe(target);
+    } finally {
+      await app.close();
+    }
+  });
+});
+
+describe('share links', () => {
+  it('refuse tampered tokens, and a link serves only its own run’s files', async () => {
+    const ctx = { fx, server, db: server.deps.db };
+    const a = await shareFixture(ctx);
+    const b = await shareFixture(ctx);
+    const get = (token: string, file = '') => fetch(`${server.url}/api/share/${token}${file ? `/files/${file}` : ''}`);
+    expect((await get(a.token)).status).toBe(200);
+    const flip = (t: string, i: number) => t.slice(0, i) + (t[i] === 'a' ? 'b' : 'a') + t.slice(i + 1);
+    const tampered = [flip(a.token, 0), flip(a.token, a.token.length - 1), a.token.slice(0, -1), `${a.token}a`, a.token.toUpperCase(), `${a.token.slice(0, 10)}%2e%2e%2f${a.token.slice(10)}`];
+    for (const token of tampered) {
+      const res = await get(token, 'report.json');
+      expect(res.status, token).toBe(404);
+      expect((await res.json()).error.code, token).toBe('SHARE_NOT_FOUND');
+    }
+    // Link A lists run A only; run B's id in a file name is not a way across.
+    const listed = (await (await get(a.token)).json()) as { share: { files: Array<{ name: string }> } };
+    expect(listed.share.files.map((f) => f.name)).toEqual(['report.json']);
+    expect((await get(a.token, `..%2F${b.runId}%2Freport.json`)).status).toBe(404);
+    // Revoking B leaves A working; a run that is no longer done takes its links down.
+    expect((await fx.actors.maker.delete(`/api/workspaces/${fx.workspaceId}/runs/${b.runId}/shares/${b.shareId}`)).status).toBe(204);
+    expect((await get(b.token)).status).toBe(404);
+    expect((await get(a.token, 'report.json')).status).toBe(200);
+    await server.deps.db('runs').where({ id: a.runId }).update({ state: 'failed' });
+    expect((await get(a.token)).status).toBe(404);
+    // Share ids of one run cannot be revoked through another run.
+    const c = await shareFixture(ctx);
+    const { runId: otherRun } = await runFixture(ctx);
+    expect((await fx.actors.maker.delete(`/api/workspaces/${fx.workspaceId}/runs/${otherRun}/shares/${c.shareId}`)).status).toBe(404);
+    expect((await get(c.token)).status).toBe(200);
+  });
+});
+
+describe('security headers', () => {
+  const expectHelmet = (res: Response, label: string) => {
+    const h = res.headers;
+    // helmet 8 defaults (helmetjs.github.io) with our own 'self'-only CSP.
+    expect(h.get('content-security-policy'), label).toMatch(/default-src 'self'/);
+    expect(h.get('content-security-policy'), label).toMatch(/frame-ancestors 'none'/);
+    expect(h.get('x-content-type-options'), label).toBe('nosniff');
+    expect(h.get('x-frame-options'), label).toBe('SAMEORIGIN');
+    expect(h.get('referrer-policy'), label).toBe('no-referrer');
+    expect(h.get('cross-origin-opener-policy'), label).toBe('same-origin');
+    expect(h.get('cross-origin-resource-policy'), label).toBe('same-origin');
+    expect(h.get('x-powered-by'), label).toBeNull();
+  };
+
+  it('are on every API answer (success, 401, 404, 403) and on the HTML pages and assets', async () => {
+    expect(existsSync(resolve(CLIENT_DIR, 'index.html'))).toBe(true);
+    for (const route of routes.filter((r) => r.method === 'GET')) {
+      const path = fill(route);
+      const res = await fetch(server.url + path);
+      await res.arrayBuffer();
+      expectHelmet(res, `GET ${route.path} (${res.status})`);
+    }
+    const signedIn = await fetch(`${server.url}/api/workspaces/${fx.workspaceId}`, { headers: { Cookie: fx.actors.helper.cookie! } });
+    expect(signedIn.status).toBe(200);
+    expectHelmet(signedIn, 'member GET');
+    const csrf = await fetch(`${server.url}/api/session`, { method: 'DELETE', headers: { Cookie: fx.actors.helper.cookie! } });
+    expect(csrf.status).toBe(403);
+    expectHelmet(csrf, 'CSRF 403');
+    for (const page of ['/', '/w/anything/runs', '/s/some-share-token', '/invite/abc']) {
+      const res = await fetch(server.url + page);
+      const html = await res.text();
+      expect(res.status, page).toBe(200);
+      expect(html, page).toMatch(/<html/i);
+      expectHelmet(res, page);
+    }
+    const asset = /(?:src|href)="(\/assets\/[^"]+)"/.exec(await (await fetch(`${server.url}/`)).text())?.[1];
+    expect(asset).toBeTruthy();
+    const assetRes = await fetch(server.url + asset);
+    await assetRes.arrayBuffer();
+    expect(assetRes.status).toBe(200);
+    expectHelmet(assetRes, asset!);
+  });
+});
