@@ -2,6 +2,7 @@
 // previous run, takes cached renders, and fans out one run-render job per remaining card.
 import { isBleedwrightError } from '../../shared/errors.ts';
 import type { RunDiff } from '../../shared/api/runs.ts';
+import type { Finding } from '../../shared/findings.ts';
 import { cardSources } from '../engine/run.ts';
 import { listEntries } from '../../server/db/art-sets.ts';
 import { findCached } from '../../server/db/render-cache.ts';
@@ -65,8 +66,8 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
       source_path: card.source,
     });
     if (hit && (!hit.storage_key || (await rt.storage.exists(hit.storage_key)))) {
-      const info = hit.info as { findings: [] };
-      await settleCard(rt.db, card.id, { state: hit.storage_key ? 'done' : 'skipped', cached: true, outputs: [], info: info as never, findings: info.findings });
+      const info = hit.info as Record<string, unknown> & { findings: Finding[] };
+      await settleCard(rt.db, card.id, { state: hit.storage_key ? 'done' : 'skipped', cached: true, outputs: [], info, findings: info.findings });
     } else {
       toRender.push(card.id);
     }

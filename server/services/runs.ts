@@ -1,6 +1,7 @@
 // Runs as the API shows them, and the few things a person does to one: start, cancel, follow.
 // The work itself happens in the pg-boss jobs (jobs/runs/).
 import type { Knex } from 'knex';
+import sharp from 'sharp';
 import type { RunCard, RunDetail, RunSummary } from '../../shared/api/runs.ts';
 import type { Severity } from '../../shared/findings.ts';
 import { AppError, notFound } from '../errors.ts';
@@ -144,7 +145,6 @@ export async function cardImage(deps: { db: Knex; storage: Storage }, workspaceI
   if (size === 'full') return { path: deps.storage.path(key), type: 'image/png' };
   const thumbKey = key.replace(/\.png$/, '.thumb.webp');
   if (!(await deps.storage.exists(thumbKey))) {
-    const sharp = (await import('sharp')).default;
     await deps.storage.put(thumbKey, await sharp(deps.storage.path(key)).resize(240, 240, { fit: 'inside' }).webp({ quality: 80 }).toBuffer());
   }
   return { path: deps.storage.path(thumbKey), type: 'image/webp' };
