@@ -28,7 +28,8 @@ export function artSetRoutes(deps: AppDeps): Router {
       const fields = artSetUploadFieldsSchema.parse(req.body ?? {});
       const name = fields.name ?? req.file.originalname.replace(/\.zip$/i, '').slice(0, 120);
       const result = await importArtSetZip(artDeps, { workspaceId: req.member!.workspaceId, userId: req.member!.userId, tempFile: req.file.path, name });
-      const body: ArtSetUploadResponse = { artSet: await artSetDetail(db, req.member!.workspaceId, result.artSetId), deduplicated: result.deduplicated };
+      // A deduplicated upload answers with the revision holding those bytes (not always the latest).
+      const body: ArtSetUploadResponse = { artSet: await artSetDetail(db, req.member!.workspaceId, result.artSetId, result.revision), deduplicated: result.deduplicated };
       res.status(result.deduplicated ? 200 : 201).json(body);
     } catch (err) {
       throw engineError(err);
