@@ -86,11 +86,29 @@ export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void>
     if (done) await mailRunEnded(rt, runId);
   } catch (err) {
     rt.logger.error({ err, runId }, 'assemble failed');
-    const reason = (err as NodeJS.ErrnoException).code === 'EACCES' || (err as NodeJS.ErrnoException).code === 'EROFS'
-      ? 'the storage folder could not be written; fix its permissions and start the run again'
-      : ((err as Error).message.split('\n')[0] ?? 'unknown error');
-    await finishRunFailed(rt, runId, `ASSEMBLE_FAILED: ${reason}`);
+    await finishRunFailed(rt, runId, `ASSEMBLE_FAILED: ${storageFailure(err)}`);
   } finally {
     await rm(workDir, { recursive: true, force: true });
   }
+}
+
+// File-system errors as a sentence for the run page: what went wrong and what to do, without the
+// server's paths (the log keeps the full error).
+const STORAGE_REASONS: Record<string, string> = {
+  ENOSPC: 'the storage disk is full',
+  EDQUOT: 'the storage quota is used up',
+  EACCES: 'the storage folder could not be written (permissions)',
+  EPERM: 'the storage folder could not be written (permissions)',
+  EROFS: 'the storage is read-only',
+  ENOTDIR: 'the storage folder is missing or is not a folder',
+  ENOENT: 'the storage folder is missing',
+  EISDIR: 'the storage holds a folder where a file was expected',
+  EIO: 'the storage disk reported an input/output error',
+};
+
+function storageFailure(err: unknown): string {
+  const code = (err as NodeJS.ErrnoException).code;
+  const known = code ? STORAGE_REASONS[code] : undefined;
+  if (known) return `${known} (${code}); the outputs were not written. Fix the storage and start the run again.`;
+  return (err as Error).message.split('\n')[0] ?? 'unknown error';
 }
