@@ -40,10 +40,14 @@ function Planner({ workspaceId, source }: { workspaceId: string; source: Source 
   const runFaces = source ? source.fronts.reduce((n, f) => n + f.copies, 0) : null;
   const [typedFaces, setTypedFaces] = useState(50);
   const [multiple, setMultiple] = useState(source?.multiple ?? 18);
+  const [typingMultiple, setTypingMultiple] = useState(false);
   const [sets, setSets] = useState(1);
   const [sheetId, setSheetId] = useState<string>('');
   const [stock, setStock] = useState<string>('');
 
+  // The recipe's own multiple is always one of the choices.
+  const multiples = [...new Set([...COMMON_MULTIPLES, ...(source ? [source.multiple] : [])])].sort((a, b) => a - b);
+  const otherMultiple = typingMultiple || !multiples.includes(multiple);
   const chosen: PriceSheet | null = sheets.data?.find((s) => s.id === sheetId) ?? (sheetId === '' ? (sheets.data?.[0] ?? null) : null);
   const faces = runFaces ?? typedFaces;
   const valid = Number.isFinite(faces) && faces >= 0 && Number.isFinite(multiple) && multiple >= 1 && Number.isFinite(sets) && sets >= 1;
@@ -84,15 +88,21 @@ function Planner({ workspaceId, source }: { workspaceId: string; source: Source 
             ) : (
               <InputField label="Cards in one set" type="number" min={0} step={1} value={Number.isNaN(typedFaces) ? '' : typedFaces} onChange={(e) => setTypedFaces(e.target.valueAsNumber)} hint="Every copy of every card face; a back printed on all cards is not counted." />
             )}
-            <ChoiceField label="Sheet multiple" value={COMMON_MULTIPLES.includes(multiple) ? String(multiple) : 'other'} onChange={(e) => e.target.value !== 'other' && setMultiple(Number(e.target.value))}>
-              {COMMON_MULTIPLES.map((m) => (
+            <ChoiceField label="Sheet multiple" value={otherMultiple ? 'other' : String(multiple)}
+              onChange={(e) => {
+                setTypingMultiple(e.target.value === 'other');
+                if (e.target.value !== 'other') setMultiple(Number(e.target.value));
+              }}
+            >
+              {multiples.map((m) => (
                 <option key={m} value={m}>
                   {m === 1 ? 'no sheets (1)' : `${m} cards a sheet`}
+                  {source && m === source.multiple ? ' (recipe)' : ''}
                 </option>
               ))}
               <option value="other">other…</option>
             </ChoiceField>
-            {!COMMON_MULTIPLES.includes(multiple) && (
+            {otherMultiple && (
               <InputField label="Cards a sheet" type="number" min={1} step={1} value={Number.isNaN(multiple) ? '' : multiple} onChange={(e) => setMultiple(e.target.valueAsNumber)} />
             )}
             <InputField label="Number of sets" type="number" min={1} step={1} value={Number.isNaN(sets) ? '' : sets} onChange={(e) => setSets(e.target.valueAsNumber)} />
