@@ -183,6 +183,7 @@ describe('browser: dashboard and print planning', () => {
     await page.getByLabel('Size 3: price per set').fill('12');
     await page.getByLabel('Setup fee', { exact: true }).fill('20');
     await page.getByLabel('Setup fee waived from (sets)').fill('10');
+    await page.screenshot({ path: `${SCREENSHOTS}/price-sheet-form.png`, fullPage: true });
     await page.getByRole('button', { name: 'Save price sheet' }).click();
     await page.getByText('Setup fee €20.00, waived from 10 sets.').waitFor();
     await page.screenshot({ path: `${SCREENSHOTS}/price-sheets.png`, fullPage: true });
@@ -229,6 +230,19 @@ describe('browser: dashboard and print planning', () => {
 
     expect(errors).toEqual([]);
     await context.close();
+
+    // A helper reads the price sheets and plans, but is offered no way to change them.
+    const helperContext = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const helperPage = await helperContext.newPage();
+    await signIn(helperPage, fx.users.helper.email);
+    await helperPage.goto(`${ws}/price-sheets`);
+    await helperPage.getByText('Setup fee €20.00, waived from 10 sets.').waitFor();
+    expect(await helperPage.getByRole('button', { name: 'New price sheet' }).count()).toBe(0);
+    expect(await helperPage.getByRole('button', { name: /^Edit / }).count()).toBe(0);
+    await helperPage.goto(`${ws}/plan`);
+    await helperPage.getByLabel('Cards in one set').fill('110');
+    expect(await text(helperPage, 'plan-padded')).toBe('126'); // 110 -> 126 at 18 a sheet: common practice, no source
+    await helperContext.close();
   });
 
   it('a 1,000-card deck draws only the press sheets in view and scrolls to the last one', { timeout: 120_000 }, async () => {
