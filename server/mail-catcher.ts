@@ -60,6 +60,9 @@ export async function startMailCatcher(opts: { port: number; host?: string }): P
     server.once('error', reject);
     server.listen(opts.port, opts.host ?? '127.0.0.1', () => {
       server.off('error', reject);
+      // A client that drops its connection (a worker killed mid-send) emits an error here; without a
+      // listener it would end the whole process.
+      server.on('error', () => {});
       resolve();
     });
   });
