@@ -4,6 +4,7 @@
 // the run can be started again once storage is back. Worker processes killed mid-render and
 // mid-assemble, and PostgreSQL restarts, are in hardening-workers.test.ts and hardening-restart.test.ts.
 import { createHash } from 'node:crypto';
+import { connect } from 'node:net';
 import { readFile, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -132,5 +133,28 @@ describe('unwritable storage on output', () => {
     expect(rerun.state).toBe('done');
     expect(rerun.progress).toMatchObject({ total: 3, done: 3, cached: 3 });
     expect((await pdfOf(rerun)).subarray(0, 5).toString()).toBe('%PDF-');
+  });
+});
+
+describe('mail catcher', () => {
+  it('a mail client that resets its connection mid-conversation does not take the server down', async () => {
+    const port = server.mailCatcher!.port;
+    await new Promise<void>((resolve, reject) => {
+      const socket = connect(port, '127.0.0.1');
+      socket.on('error', () => {});
+      socket.once('data', () => {
+        socket.write('EHLO worker.example.test\r\nMAIL FROM:<a@example.test>\r\nRCPT TO:<b@example.test>\r\nDATA\r\nSubject: half\r\n\r\nhalf a mess');
+        // TCP RST instead of a clean close, as a process killed with SIGKILL leaves it.
+        setTimeout(() => {
+          socket.resetAndDestroy();
+          resolve();
+        }, 100);
+      });
+      socket.once('close', () => resolve());
+      setTimeout(() => reject(new Error('no SMTP greeting')), 5000);
+    });
+    await new Promise((r) => setTimeout(r, 300));
+    expect((await fetch(`${server.url}/api/health`)).status).toBe(200);
+    expect(server.mailCatcher!.list().some((m) => m.subject === 'half')).toBe(false);
   });
 });
