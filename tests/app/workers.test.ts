@@ -73,6 +73,17 @@ async function queuedRun(name: string, cards: number, dpi: number) {
   return start.body.run.id as string;
 }
 
+/** The end-of-run mail, sent by a worker process to the app's mail catcher. Waiting for it also
+ * means no SMTP session is cut when the workers are stopped. */
+async function runMail(runId: string) {
+  for (let i = 0; i < 200; i++) {
+    const mail = server.mailCatcher!.list().find((m) => m.text.includes(runId));
+    if (mail) return mail;
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  throw new Error(`no mail for run ${runId}`);
+}
+
 function pdfPages(file: string): number {
   return Number(/^Pages:\s+(\d+)$/m.exec(execFileSync('pdfinfo', [file], { encoding: 'utf8' }))![1]);
 }
@@ -106,6 +117,7 @@ describe('worker processes', () => {
     expect(report.cards).toHaveLength(CARDS);
     expect(new Set(report.cards.map((c: { source: string }) => c.source)).size).toBe(CARDS);
     expect(report.outputs.singles).toBe(CARDS);
+    expect((await runMail(runId)).subject).toMatch(/^Run done:/);
   });
 
   it('two workers together finish a run with no card rendered twice', async () => {
@@ -120,5 +132,6 @@ describe('worker processes', () => {
     const pids = new Set(renders.map((r) => r.pid));
     expect(pids.has(process.pid)).toBe(false); // the app process does not work jobs here
     expect((await server.deps.db('run_cards').where({ run_id: runId, state: 'done' })).length).toBe(CARDS);
+    expect((await runMail(runId)).text).toContain(`Cards: ${CARDS} (done ${CARDS}`);
   });
 });
