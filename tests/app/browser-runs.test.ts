@@ -189,9 +189,89 @@ describe('browser: recipe, upload, run, download, share', () => {
     await publicPage.getByRole('alert').filter({ hasText: 'was revoked' }).waitFor();
     await publicPage.screenshot({ path: `${SCREENSHOTS}/share-revoked.png`, fullPage: true });
 
+    // Fix one card's art: replacing one image makes revision 2, and the rerun renders only that card.
+    await page.goto(`${workspaceUrl}/art-sets/${run.artSet.id}`);
+    await page.getByLabel('Images', { exact: true }).setInputFiles({
+      name: 'cb-01-ferry-runner.png',
+      mimeType: 'image/png',
+      buffer: readFileSync(resolve('samples/cinderbrook/cb-07-rope-swing.png')),
+    });
+    await page.getByRole('button', { name: 'Make a new revision' }).click();
+    await page.getByRole('status').filter({ hasText: 'Revision 2 made' }).waitFor({ timeout: 60_000 });
+    await page.waitForURL(/\?revision=2$/);
+    await page.getByLabel('Recipe', { exact: true }).selectOption({ label: `${recipeName} (v1)` });
+    await page.getByRole('button', { name: 'Start run' }).click();
+    await page.waitForURL((url) => /\/runs\/[0-9a-f-]{36}$/.test(url.pathname) && !url.pathname.endsWith(runId));
+    await runState.locator('[data-state="done"], [data-state="failed"], [data-state="canceled"]').waitFor({ timeout: 180_000 });
+    expect(await runState.textContent()).toBe('done');
+    const diffPanel = page.locator('section', { has: page.getByRole('heading', { name: 'Changes since the previous run' }) });
+    await diffPanel.getByText(`0 added, 1 changed, 0 removed, ${cards.length - 1} unchanged.`).waitFor();
+    await diffPanel.getByText('cb-01-ferry-runner.png', { exact: true }).waitFor();
+    const rerunId = page.url().split('/').pop()!;
+    const rerun = ((await (await page.request.get(api.replace(runId, rerunId))).json()) as RunResponse).run;
+    expect(rerun.artSet.revision).toBe(2);
+    expect(rerun.progress.cached).toBe(cards.length - 1);
+    await page.screenshot({ path: `${SCREENSHOTS}/rerun-diff.png`, fullPage: true });
+
     // Everything the pages asked for came from the app's own origin.
     expect(requested.filter((u) => !u.startsWith(server.url))).toEqual([]);
     await stranger.close();
+    await context.close();
+  });
+
+  it('recipe versions, bleed in mm, and an unreadable zip dropped on the upload zone', async () => {
+    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const page = await context.newPage();
+    onTestFailed(() => page.screenshot({ path: `${SCREENSHOTS}/browser-runs-failure-2.png`, fullPage: true }).then(() => undefined));
+    await page.goto(`${server.url}/w/${fixture.workspaceId}/recipes/new`);
+    await page.waitForURL(/\/sign-in/);
+    await page.getByLabel('E-mail').fill(fixture.users.maker.email);
+    await page.getByLabel('Password').fill(TEST_PASSWORD);
+    await page.getByRole('button', { name: 'Sign in' }).click();
+    await page.getByRole('heading', { name: 'New recipe' }).waitFor();
+
+    const name = `Bridge deck ${Date.now().toString(36)}`;
+    await page.getByLabel('Name', { exact: true }).fill(name);
+    await page.getByLabel('Trim size').selectOption('bridge');
+    // Bridge + 1/8 in bleed at 300 DPI: 750 x 1125 px (arithmetic, REFERENCES.md).
+    await page.getByTestId('geometry').getByText('750 x 1125 px').waitFor();
+    await page.getByRole('button', { name: 'Create recipe' }).click();
+    await page.getByRole('status').filter({ hasText: 'Saved as version 1.' }).waitFor();
+
+    // A bad value is shown beside its field and nothing is saved.
+    const bleed = page.getByLabel('Bleed', { exact: true });
+    await bleed.fill('-1');
+    await page.getByRole('button', { name: 'Save as a new version' }).click();
+    await expect.poll(() => bleed.getAttribute('aria-invalid')).toBe('true');
+    await page.locator(`[id="${await bleed.getAttribute('aria-describedby')}"]`).getByText('must be 0 or more').waitFor();
+
+    // 3 mm bleed: (57.15 + 6) x (88.9 + 6) mm at 300 DPI = 745.87 x 1120.87, rounded to 746 x 1121 (DEVELOPERS.md rounding rule).
+    await bleed.fill('3');
+    await page.getByLabel('Bleed unit').selectOption('mm');
+    await page.getByTestId('geometry').getByText('746 x 1121 px').waitFor();
+    await page.getByRole('button', { name: 'Save as a new version' }).click();
+    await page.getByRole('status').filter({ hasText: 'Saved as version 2.' }).waitFor();
+    await page.getByRole('button', { name: 'View v1' }).click();
+    const v1 = page.getByLabel('Settings of version 1');
+    await v1.waitFor();
+    expect(JSON.parse((await v1.textContent())!).bleed).toEqual({ size: 0.125, unit: 'in' });
+    await page.screenshot({ path: `${SCREENSHOTS}/recipe-versions.png`, fullPage: true });
+
+    // Dropping a file that is not a zip: the server's code and sentence are shown as they are.
+    await page.goto(`${server.url}/w/${fixture.workspaceId}/art-sets`);
+    const dataTransfer = await page.evaluateHandle(() => {
+      const dt = new DataTransfer();
+      dt.items.add(new File(['these are notes, not a zip'], 'broken.zip', { type: 'application/zip' }));
+      return dt;
+    });
+    await page.getByTestId('drop-zone').dispatchEvent('dragover', { dataTransfer });
+    await page.getByTestId('drop-zone').dispatchEvent('drop', { dataTransfer });
+    await page.getByText('broken.zip ·').waitFor();
+    await page.getByRole('button', { name: 'Upload', exact: true }).click();
+    const problem = page.getByRole('alert');
+    await problem.waitFor();
+    expect(await problem.textContent()).toMatch(/^ARCHIVE_[A-Z_]+: .{10,}/);
+    await page.screenshot({ path: `${SCREENSHOTS}/upload-error.png`, fullPage: true });
     await context.close();
   });
 });

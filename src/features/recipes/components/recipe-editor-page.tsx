@@ -12,6 +12,8 @@ import { useSaveRecipe } from '../api/save-recipe';
 import { GeometryPanel, RecipeForm, issuesByPath, labelFor, type Issues } from './recipe-form';
 import { RecipePreview } from '../../recipe-preview/components/recipe-preview';
 
+type SavedNote = { recipeId: string; text: string };
+
 /** A new recipe starts from the schema's own defaults (poker, 1/8 in bleed, 300 DPI). */
 function defaultRecipe(): Recipe {
   return { ...recipeSchema.parse({ name: 'New recipe' }), name: '' };
@@ -22,6 +24,10 @@ export function RecipeEditorPage() {
   const recipe = useRecipe(workspaceId, recipeId);
   const location = useLocation();
   const savedAfterCreate = (location.state as { saved?: number } | null)?.saved;
+  // The save and its note live here, above the form that remounts on each new version, so the
+  // callbacks still run and "Saved as version N" survives the remount.
+  const save = useSaveRecipe(workspaceId, recipeId ?? null);
+  const [saved, setSaved] = useState<SavedNote | null>(savedAfterCreate && recipeId ? { recipeId, text: `Saved as version ${savedAfterCreate}.` } : null);
 
   if (recipeId && recipe.isPending) return <Loading what="the recipe" />;
   if (recipeId && recipe.error) return <ErrorNote error={recipe.error} />;
@@ -32,19 +38,32 @@ export function RecipeEditorPage() {
       key={detail ? `${detail.id}:${detail.version}` : 'new'}
       workspaceId={workspaceId}
       detail={detail}
-      initialNote={savedAfterCreate ? `Saved as version ${savedAfterCreate}.` : null}
+      // Shown only beside the recipe it belongs to, not on the "new" form it came from.
+      note={saved && saved.recipeId === detail?.id ? saved.text : null}
+      setNote={setSaved}
+      save={save}
     />
   );
 }
 
-function EditorBody({ workspaceId, detail, initialNote }: { workspaceId: string; detail: RecipeDetail | null; initialNote: string | null }) {
+function EditorBody({
+  workspaceId,
+  detail,
+  note,
+  setNote,
+  save,
+}: {
+  workspaceId: string;
+  detail: RecipeDetail | null;
+  note: string | null;
+  setNote: (note: SavedNote | null) => void;
+  save: ReturnType<typeof useSaveRecipe>;
+}) {
   const canWrite = useCanWrite(workspaceId);
   const navigate = useNavigate();
-  const save = useSaveRecipe(workspaceId, detail?.id ?? null);
   const [form, setForm] = useState<Recipe>(() => (detail ? detail.settings : defaultRecipe()));
   const [tried, setTried] = useState(false);
   const [serverIssues, setServerIssues] = useState<Issues>({});
-  const [note, setNote] = useState<string | null>(initialNote);
 
   const parsed = useMemo(() => recipeSchema.safeParse(form), [form]);
   const clientIssues = useMemo(() => (parsed.success ? {} : issuesByPath(parsed.error.issues)), [parsed]);
@@ -65,16 +84,15 @@ function EditorBody({ workspaceId, detail, initialNote }: { workspaceId: string;
     const before = detail?.version;
     save.mutate(form, {
       onSuccess: (saved) => {
-        if (!detail) {
-          navigate(`../recipes/${saved.id}`, { replace: true, state: { saved: saved.version } });
-        } else if (saved.version === before) {
-          setNote(`Nothing changed: still version ${saved.version}.`);
-        }
-        // A new version remounts this form (its key changes); the note travels in the location state.
-        else navigate('.', { replace: true, state: { saved: saved.version } });
+        setNote({
+          recipeId: saved.id,
+          text: saved.version === before ? `Nothing changed: still version ${saved.version}.` : `Saved as version ${saved.version}.`,
+        });
+        if (!detail) navigate(`../recipes/${saved.id}`, { replace: true, state: { saved: saved.version } });
       },
       onError: (err) => {
-        if (err instanceof ApiError && err.details) setServerIssues(issuesByPath(err.details));
+        // The body is `{ settings }`, so the server's paths start with "settings.".
+        if (err instanceof ApiError && err.details) setServerIssues(issuesByPath(err.details.map((d) => ({ ...d, path: d.path.replace(/^settings\./, '') }))));
       },
     });
   };
