@@ -1,11 +1,12 @@
 // `npm run worker`: runs the job handlers only, against the same PostgreSQL (DATABASE_URL) and storage
-// (BLEEDWRIGHT_STORAGE) as the app. Start as many as you like on other machines.
+// (BLEEDWRIGHT_STORAGE, or the BLEEDWRIGHT_S3_* bucket) as the app. Start as many as you like on other
+// machines; with object storage each works in its own BLEEDWRIGHT_WORK_DIR and shares no disk.
 import { existsSync, readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { createLogger } from '../server/logger.ts';
 import { createDb } from '../server/db/knex.ts';
 import { createSmtpMailer } from '../server/mail.ts';
-import { localStorage } from '../server/storage.ts';
+import { storageFromEnv } from '../server/storage-config.ts';
 import { startQueue, type Queue } from './boss.ts';
 import { installRunsRuntime, runsConfigFromEnv } from './runs/runtime.ts';
 
@@ -37,7 +38,7 @@ const mailer = createSmtpMailer({
 let queue: Queue | null = null;
 installRunsRuntime({
   db,
-  storage: localStorage(resolve(process.env.BLEEDWRIGHT_STORAGE ?? `${dataDir}/storage`)),
+  storage: storageFromEnv(process.env, `${dataDir}/storage`),
   config,
   mailer,
   publicUrl: () => process.env.BLEEDWRIGHT_PUBLIC_URL ?? `http://127.0.0.1:${process.env.PORT ?? 4400}`,

@@ -5,6 +5,7 @@ import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { createLogger } from './logger.ts';
 import { startServer, type RunningServer } from './server.ts';
+import { storageFromEnv } from './storage-config.ts';
 
 function sessionSecret(dataDir: string): string {
   if (process.env.SESSION_SECRET) return process.env.SESSION_SECRET;
@@ -36,6 +37,8 @@ try {
       : { catcherPort: Number(process.env.BLEEDWRIGHT_SMTP_PORT ?? 4425) },
     clientDir: resolve('dist'),
     storageRoot: resolve(process.env.BLEEDWRIGHT_STORAGE ?? `${dataDir}/storage`),
+    // Local disk unless BLEEDWRIGHT_S3_BUCKET names a bucket (README: Object storage).
+    storage: storageFromEnv(process.env, `${dataDir}/storage`),
     sessionSecret: sessionSecret(dataDir),
     publicUrl: process.env.BLEEDWRIGHT_PUBLIC_URL,
     cookieSecure: process.env.BLEEDWRIGHT_SECURE_COOKIES === '1',

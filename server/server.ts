@@ -11,7 +11,7 @@ import { startMailCatcher, type MailCatcher } from './mail-catcher.ts';
 import { seedDemo, seedRunsDemo, type DemoAccount } from './seed.ts';
 import { startQueue, type Queue } from '../jobs/boss.ts';
 import { installRunsRuntime, runsConfigFromEnv, type RunsConfig } from '../jobs/runs/runtime.ts';
-import { localStorage } from './storage.ts';
+import { localStorage, type Storage } from './storage.ts';
 import { startInbox, type Inbox } from './services/inbox.ts';
 
 export interface ServerOptions {
@@ -24,6 +24,8 @@ export interface ServerOptions {
   mailFrom?: string;
   clientDir: string | null;
   storageRoot: string;
+  /** Storage backend (object storage from `storageFromEnv`); local disk under `storageRoot` when absent. */
+  storage?: Storage;
   sessionSecret: string;
   publicUrl?: string;
   cookieSecure?: boolean;
@@ -63,7 +65,7 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
     from: opts.mailFrom ?? 'Bleedwright <no-reply@bleedwright.example.test>',
   });
   const runsConfig: RunsConfig = { ...runsConfigFromEnv(), ...opts.runs };
-  const storage = localStorage(opts.storageRoot);
+  const storage = opts.storage ?? localStorage(opts.storageRoot);
   let queueRef: Queue | null = null;
   const send = async (name: string, data: object, options: Record<string, unknown> = {}) => {
     if (!queueRef) throw new Error('The job queue is not started yet');
@@ -83,6 +85,9 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
     await seedRunsDemo({ db, storage, tmpDir: runsConfig.tmpDir, send }, demo.workspaceId).catch((err) => logger.warn({ err }, 'runs demo data not seeded'));
   }
   const sessionPool = new pg.Pool({ connectionString: opts.databaseUrl, max: 5 });
+  // An idle connection cut by a database restart emits here; unheard, it would end the process. The
+  // pool drops that connection and opens a new one on the next request.
+  sessionPool.on('error', (err) => logger.warn({ err }, 'session store connection lost'));
   const deps: AppDeps = {
     db,
     sessionPool,

@@ -8,17 +8,36 @@ import path from 'node:path';
 import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 
+export interface DownloadOptions {
+  /** Offered file name (Content-Disposition: attachment); none shows the file inline. */
+  filename?: string;
+  contentType?: string;
+  /** Lifetime of a presigned URL; 300 s unless given. */
+  expiresSeconds?: number;
+}
+
 export interface Storage {
+  readonly kind: 'local' | 's3';
+  /** Local disk: the storage folder. S3: `s3://<bucket>`. */
   readonly root: string;
-  /** Writes bytes or a stream under `key` (temp file, then rename). */
+  /** Writes bytes or a stream under `key` (local: temp file, then rename; S3: streamed, multipart when large). */
   put(key: string, data: Buffer | Readable): Promise<void>;
-  /** Moves a local file into `key` (rename when on the same disk, else copy then rename). */
+  /** Moves a local file into `key`; the local file is gone afterwards. */
   putFile(key: string, file: string): Promise<void>;
-  get(key: string): Readable;
-  /** Local path of `key` (the engine and sharp read files by path). */
+  get(key: string): Promise<Readable>;
+  /**
+   * A local file holding `key`'s bytes, for sharp and the PDF writer, which read paths. Local disk gives
+   * the stored file itself; S3 downloads it once into `<workDir>/cache/` (keys hold content hashes or are
+   * rewritten with the same bytes, so a cached copy stays right).
+   */
+  fetchFile(key: string, workDir: string): Promise<string>;
+  /** A short-lived URL that serves `key` straight from the store, or null when the app must stream it. */
+  downloadUrl(key: string, opts?: DownloadOptions): Promise<string | null>;
+  /** Local disk only (tests and local tools): where `key` lives. The S3 backend throws. */
   path(key: string): string;
   exists(key: string): Promise<boolean>;
   size(key: string): Promise<number>;
+  /** Removes `key` and everything stored under `key/`. */
   remove(key: string): Promise<void>;
 }
 
@@ -49,6 +68,7 @@ export function localStorage(root: string): Storage {
   const full = (key: string) => path.join(abs, checkKey(key));
   const temp = (target: string) => `${target}.${process.pid}.${randomBytes(6).toString('hex')}.tmp`;
   return {
+    kind: 'local',
     root: abs,
     async put(key, data) {
       const target = full(key);
@@ -75,7 +95,17 @@ export function localStorage(root: string): Storage {
         await rm(file, { force: true });
       }
     },
-    get: (key) => createReadStream(full(key)),
+    async get(key) {
+      const file = full(key);
+      await stat(file); // a missing key fails here (ENOENT), not later in the stream
+      return createReadStream(file);
+    },
+    async fetchFile(key) {
+      const file = full(key);
+      await stat(file);
+      return file;
+    },
+    downloadUrl: async () => null,
     path: full,
     async exists(key) {
       try {

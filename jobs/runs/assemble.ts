@@ -21,25 +21,25 @@ export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void>
   const { run, recipe } = loaded;
   if ((await countCards(rt.db, runId)).open > 0) return; // the last render asks again
 
-  const runDir = rt.storage.path(storageKeys.runDir(run.workspace_id, run.id));
-  const workDir = `${runDir}.assemble-${randomBytes(6).toString('hex')}`;
+  // Assembled in this worker's own folder; the finished files go to storage.
+  const workDir = path.join(rt.config.workDir, 'tmp', `assemble-${run.id}-${randomBytes(6).toString('hex')}`);
   try {
     const cards = await listCards(rt.db, runId);
-    const set = await openRunArtSet(loaded);
+    const set = await openRunArtSet(rt, loaded);
     const artSet = await rt.db('art_sets').where({ id: loaded.artSetId }).first('name');
-    const rendered: RenderedCard[] = cards
-      .filter((c) => c.state === 'done' || c.state === 'skipped' || c.state === 'failed')
-      .map((c) => {
-        const info = (c.info ?? { sourcePx: null, format: null, findings: c.findings }) as RenderedCard['info'] & { renderKey?: string | null };
-        return {
-          source: c.source,
-          role: c.role,
-          title: c.title,
-          pngPath: c.state === 'done' && info.renderKey ? rt.storage.path(info.renderKey) : null,
-          // Copies, so marking duplicates adds findings to this assembly only.
-          info: { ...info, findings: [...(info.findings ?? c.findings)] },
-        };
+    const rendered: RenderedCard[] = [];
+    for (const c of cards) {
+      if (c.state !== 'done' && c.state !== 'skipped' && c.state !== 'failed') continue;
+      const info = (c.info ?? { sourcePx: null, format: null, findings: c.findings }) as RenderedCard['info'] & { renderKey?: string | null };
+      rendered.push({
+        source: c.source,
+        role: c.role,
+        title: c.title,
+        pngPath: c.state === 'done' && info.renderKey ? await rt.storage.fetchFile(info.renderKey, rt.config.workDir) : null,
+        // Copies, so marking duplicates adds findings to this assembly only.
+        info: { ...info, findings: [...(info.findings ?? c.findings)] },
       });
+    }
     await mkdir(workDir, { recursive: true });
     const report = await assembleOutputs({
       recipe,

@@ -12,7 +12,8 @@ export interface LoadedRun {
   recipe: Recipe;
   recipeVersionId: string;
   artSetId: string;
-  zipPath: string;
+  /** Storage key of the art set's zip; workers fetch it into their own work folder. */
+  zipKey: string;
 }
 
 // Recipe versions never change once saved, so parsed settings can be kept for the process's life.
@@ -35,10 +36,11 @@ export async function loadRun(rt: RunsRuntime, runId: string): Promise<LoadedRun
     recipe,
     recipeVersionId: run.recipe_version_id,
     artSetId: rev.art_set_id,
-    zipPath: rt.storage.path(storageKeys.blob(run.workspace_id, rev.sha256)),
+    zipKey: storageKeys.blob(run.workspace_id, rev.sha256),
   };
 }
 
-export function openRunArtSet(loaded: LoadedRun): Promise<ArtSet> {
-  return openArtSet(loaded.zipPath);
+/** Opens the run's zip from a local copy (the stored file itself on local disk; else fetched once). */
+export async function openRunArtSet(rt: RunsRuntime, loaded: LoadedRun): Promise<ArtSet> {
+  return openArtSet(await rt.storage.fetchFile(loaded.zipKey, rt.config.workDir));
 }

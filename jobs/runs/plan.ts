@@ -38,7 +38,7 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
 
   let sources;
   try {
-    sources = cardSources(await openRunArtSet(loaded), recipe);
+    sources = cardSources(await openRunArtSet(rt, loaded), recipe);
   } catch (err) {
     if (!isBleedwrightError(err)) throw err;
     await finishRunFailed(rt, runId, `${err.code}: ${err.message}`);

@@ -34,12 +34,13 @@ export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttemp
     source_path: card.source,
   };
   const key = storageKeys.render(run.workspace_id, loaded.recipeVersionId, renderCacheName(card.source_sha256, card.source));
-  const tmp = `${rt.storage.path(key)}.${randomBytes(6).toString('hex')}.part`;
+  // Rendered in this worker's own folder, then moved (or uploaded) into storage.
+  const tmp = path.join(rt.config.workDir, 'tmp', `${randomBytes(8).toString('hex')}.png.part`);
   try {
     await mkdir(path.dirname(tmp), { recursive: true });
     let rendered;
     try {
-      rendered = await renderCard({ set: await openRunArtSet(loaded), source: card.source, role: card.role, title: card.title, recipe, pngPath: tmp });
+      rendered = await renderCard({ set: await openRunArtSet(rt, loaded), source: card.source, role: card.role, title: card.title, recipe, pngPath: tmp });
     } catch (err) {
       // The archive refused this entry (size limits and the like): the card is skipped, the run goes on.
       if (!isBleedwrightError(err)) throw err;

@@ -1,5 +1,6 @@
 // What the run jobs need from outside (database, storage, mail, config, a way to send jobs). The app
 // process and `npm run worker` each install one before pg-boss starts working; handlers read it here.
+import { availableParallelism } from 'node:os';
 import type { Knex } from 'knex';
 import sharp from 'sharp';
 import type { Logger } from '../../server/logger.ts';
@@ -21,6 +22,8 @@ export interface RunsConfig {
   uploadMaxBytes: number;
   /** Where uploads wait until they are checked. */
   tmpDir: string;
+  /** This process's own working folder (renders in progress, assembly, copies fetched from object storage). */
+  workDir: string;
   /** PostgreSQL schema of the job tables (tests give each server its own). */
   bossSchema: string;
 }
@@ -33,15 +36,20 @@ export function runsConfigFromEnv(env: NodeJS.ProcessEnv = process.env): RunsCon
     if (!Number.isFinite(n) || n < 0) throw new Error(`${name} must be a number, got "${value}"`);
     return n;
   };
+  // Defaults follow the machine: one render per core (at most 4, as each holds a card's pixels in memory),
+  // and libvips threads split among them so renders at once do not fight over the cores.
+  const cores = Math.max(1, availableParallelism());
+  const workerConcurrency = Math.max(1, Math.floor(num('BLEEDWRIGHT_WORKER_CONCURRENCY', Math.min(4, cores))));
   return {
-    workerConcurrency: Math.max(1, Math.floor(num('BLEEDWRIGHT_WORKER_CONCURRENCY', 2))),
-    sharpThreads: Math.floor(num('BLEEDWRIGHT_SHARP_THREADS', 0)),
+    workerConcurrency,
+    sharpThreads: Math.floor(num('BLEEDWRIGHT_SHARP_THREADS', Math.max(1, Math.round(cores / workerConcurrency)))),
     renderExpireSeconds: num('BLEEDWRIGHT_RENDER_EXPIRE_SECONDS', 300),
     assembleExpireSeconds: num('BLEEDWRIGHT_ASSEMBLE_EXPIRE_SECONDS', 1800),
     pollingSeconds: num('BLEEDWRIGHT_JOB_POLL_SECONDS', 1),
     maintenanceSeconds: num('BLEEDWRIGHT_JOB_MAINTENANCE_SECONDS', 30),
     uploadMaxBytes: Math.floor(num('BLEEDWRIGHT_UPLOAD_MAX_MB', 512) * 1024 * 1024),
     tmpDir: env.BLEEDWRIGHT_TMP ?? `${env.BLEEDWRIGHT_DATA ?? '.data'}/tmp`,
+    workDir: env.BLEEDWRIGHT_WORK_DIR ?? `${env.BLEEDWRIGHT_DATA ?? '.data'}/work`,
     bossSchema: env.BLEEDWRIGHT_BOSS_SCHEMA ?? 'pgboss',
   };
 }

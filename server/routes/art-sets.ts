@@ -5,6 +5,7 @@ import { AppError, notFound } from '../errors.ts';
 import { ANY_ROLE, requireMember } from '../middleware/auth.ts';
 import { addFilesToArtSet, artSetDetail, artSetSummaries, entryThumbnail, importArtSetZip } from '../services/art-sets.ts';
 import { parseId } from './recipes.ts';
+import { sendStored } from '../storage-send.ts';
 import { WRITERS } from './runs.ts';
 import { engineError, removeUploads, uploadMiddleware } from './upload.ts';
 
@@ -49,9 +50,8 @@ export function artSetRoutes(deps: AppDeps): Router {
     const revision = Number(req.params.revision);
     if (!Number.isInteger(revision) || revision < 1) throw notFound('That art set revision');
     const { path } = thumbnailQuerySchema.parse(req.query);
-    const file = await entryThumbnail({ db, storage }, req.member!.workspaceId, parseId(req.params.artSetId, 'That art set'), revision, path);
-    res.setHeader('Cache-Control', 'private, max-age=86400, immutable');
-    res.type('image/webp').sendFile(file);
+    const key = await entryThumbnail(artDeps, req.member!.workspaceId, parseId(req.params.artSetId, 'That art set'), revision, path);
+    await sendStored(res, storage, key, { contentType: 'image/webp', cacheControl: 'private, max-age=86400, immutable' });
   });
 
   router.post('/:artSetId/files', write, uploadMiddleware({ tmpDir: config.tmpDir, maxBytes: config.uploadMaxBytes, field: 'files', maxFiles: 50 }), async (req, res) => {

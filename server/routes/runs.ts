@@ -18,16 +18,19 @@ import { ANY_ROLE, requireMember } from '../middleware/auth.ts';
 import { cancelRun, cardImage, followRun, runCards, runDetail, runOutputFile, runSummaries, startRun } from '../services/runs.ts';
 import { createShare, revoke, shareList } from '../services/shares.ts';
 import { parseId } from './recipes.ts';
+import type { Storage } from '../storage.ts';
+import { sendStored } from '../storage-send.ts';
 
 /** Owners and makers write recipes, art sets, runs and share links; helpers read and download. */
 export const WRITERS: readonly Role[] = ['owner', 'maker'];
 
-/** Sends a stored file as a download the browser will not try to render. */
-export function sendAttachment(res: Response, path: string, name: string): Promise<void> {
-  res.setHeader('X-Content-Type-Options', 'nosniff');
-  res.setHeader('Cache-Control', 'private, no-store');
-  return new Promise((resolve, reject) => res.download(path, name, { dotfiles: 'allow' }, (err) => (err && !res.headersSent ? reject(err) : resolve())));
+/** Sends a stored file as a download the browser will not try to render (object storage: 302 to a presigned URL). */
+export function sendAttachment(res: Response, storage: Storage, key: string, name: string): Promise<void> {
+  return sendStored(res, storage, key, { filename: name, contentType: downloadType(name), cacheControl: 'private, no-store' });
 }
+
+const DOWNLOAD_TYPES: Record<string, string> = { '.pdf': 'application/pdf', '.zip': 'application/zip', '.json': 'application/json', '.csv': 'text/csv' };
+const downloadType = (name: string) => DOWNLOAD_TYPES[name.slice(name.lastIndexOf('.')).toLowerCase()] ?? 'application/octet-stream';
 
 /** Mounted at /api/workspaces/:workspaceId/runs. */
 export function runRoutes(deps: AppDeps): Router {
@@ -82,9 +85,8 @@ export function runRoutes(deps: AppDeps): Router {
 
   router.get('/:runId/cards/:cardId/image', read, async (req, res) => {
     const { size } = cardImageQuerySchema.parse(req.query);
-    const img = await cardImage({ db, storage }, req.member!.workspaceId, runId(req.params.runId), parseId(req.params.cardId, 'That card'), size);
-    res.setHeader('Cache-Control', 'private, max-age=3600');
-    res.type(img.type).sendFile(img.path);
+    const img = await cardImage({ db, storage, workDir: deps.runs.config.workDir }, req.member!.workspaceId, runId(req.params.runId), parseId(req.params.cardId, 'That card'), size);
+    await sendStored(res, storage, img.key, { contentType: img.type, cacheControl: 'private, max-age=3600' });
   });
 
   router.post('/:runId/cancel', write, async (req, res) => {
@@ -103,7 +105,7 @@ export function runRoutes(deps: AppDeps): Router {
 
   router.get('/:runId/files/:name', read, async (req, res) => {
     const file = await runOutputFile({ db, storage }, req.member!.workspaceId, runId(req.params.runId), String(req.params.name));
-    await sendAttachment(res, file.path, file.name);
+    await sendAttachment(res, storage, file.key, file.name);
   });
 
   router.get('/:runId/shares', write, async (req, res) => {

@@ -13,8 +13,8 @@ export function publicShareRoutes(deps: AppDeps): Router {
     res.json(body);
   });
   router.get('/:token/files/:name', async (req, res) => {
-    const file = await sharedFile({ db: deps.db, storagePath: deps.runs.storage.path }, String(req.params.token), String(req.params.name), deps.clock());
-    await sendAttachment(res, file.path, file.name);
+    const file = await sharedFile({ db: deps.db }, String(req.params.token), String(req.params.name), deps.clock());
+    await sendAttachment(res, deps.runs.storage, file.key, file.name);
   });
   return router;
 }

@@ -165,18 +165,18 @@ export async function artSetDetail(db: Knex, workspaceId: string, artSetId: stri
   };
 }
 
-/** A revision of an art set of this workspace (404 otherwise) and the local path of its zip. */
-export async function revisionZip(deps: Pick<ArtSetDeps, 'db' | 'storage'>, workspaceId: string, artSetId: string, revision?: number) {
+/** A revision of an art set of this workspace (404 otherwise) and a local copy of its zip. */
+export async function revisionZip(deps: Pick<ArtSetDeps, 'db' | 'storage' | 'tmpDir'>, workspaceId: string, artSetId: string, revision?: number) {
   const set = await findArtSet(deps.db, workspaceId, artSetId);
   const rev = set ? await findRevision(deps.db, set.id, revision) : undefined;
   if (!set || !rev) throw notFound('That art set revision');
-  return { set, rev, zipPath: deps.storage.path(storageKeys.blob(workspaceId, rev.sha256)) };
+  return { set, rev, zipPath: await deps.storage.fetchFile(storageKeys.blob(workspaceId, rev.sha256), deps.tmpDir) };
 }
 
 const THUMB_PX = 240;
 
-/** A webp thumbnail (at most 240 px a side) of one entry, cached in storage by the entry's sha256. */
-export async function entryThumbnail(deps: Pick<ArtSetDeps, 'db' | 'storage'>, workspaceId: string, artSetId: string, revision: number, entryPath: string): Promise<string> {
+/** A webp thumbnail (at most 240 px a side) of one entry, cached in storage by the entry's sha256; returns its key. */
+export async function entryThumbnail(deps: Pick<ArtSetDeps, 'db' | 'storage' | 'tmpDir'>, workspaceId: string, artSetId: string, revision: number, entryPath: string): Promise<string> {
   const { rev, zipPath } = await revisionZip(deps, workspaceId, artSetId, revision);
   const entry = await findEntry(deps.db, rev.id, entryPath);
   if (!entry || (entry.kind !== 'image' && entry.kind !== 'back-candidate')) throw notFound('That image');
@@ -194,7 +194,7 @@ export async function entryThumbnail(deps: Pick<ArtSetDeps, 'db' | 'storage'>, w
       throw new AppError(422, 'UNREADABLE', 'This image could not be read, so it has no thumbnail.');
     }
   }
-  return deps.storage.path(key);
+  return key;
 }
 
 // A fixed time stamp so the same entries always make the same zip bytes (and dedupe works).

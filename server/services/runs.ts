@@ -135,25 +135,25 @@ export async function runCards(db: Knex, workspaceId: string, runId: string, sev
   return cards.filter((c) => !severity || c.findings.some((f) => f.severity === severity)).map(cardView);
 }
 
-/** Local path of a card's conformed PNG (full) or a cached webp thumbnail. */
-export async function cardImage(deps: { db: Knex; storage: Storage }, workspaceId: string, runId: string, cardId: string, size: 'thumb' | 'full') {
+/** Storage key of a card's conformed PNG (full) or of its cached webp thumbnail (made on first ask). */
+export async function cardImage(deps: { db: Knex; storage: Storage; workDir: string }, workspaceId: string, runId: string, cardId: string, size: 'thumb' | 'full') {
   const run = await findRunOr404(deps.db, workspaceId, runId);
   const card = await findCard(deps.db, cardId);
   if (!card || card.run_id !== run.id) throw notFound('That card');
   const key = (card.info as { renderKey?: string } | null)?.renderKey;
   if (card.state !== 'done' || !key || !(await deps.storage.exists(key))) throw notFound('That card image');
-  if (size === 'full') return { path: deps.storage.path(key), type: 'image/png' };
+  if (size === 'full') return { key, type: 'image/png' };
   const thumbKey = key.replace(/\.png$/, '.thumb.webp');
   if (!(await deps.storage.exists(thumbKey))) {
-    await deps.storage.put(thumbKey, await sharp(deps.storage.path(key)).resize(240, 240, { fit: 'inside' }).webp({ quality: 80 }).toBuffer());
+    await deps.storage.put(thumbKey, await sharp(await deps.storage.fetchFile(key, deps.workDir)).resize(240, 240, { fit: 'inside' }).webp({ quality: 80 }).toBuffer());
   }
-  return { path: deps.storage.path(thumbKey), type: 'image/webp' };
+  return { key: thumbKey, type: 'image/webp' };
 }
 
-/** Local path of one of a run's outputs, by its listed name only. */
+/** Storage key of one of a run's outputs, by its listed name only. */
 export async function runOutputFile(deps: { db: Knex; storage: Storage }, workspaceId: string, runId: string, name: string) {
   const run = await findRunOr404(deps.db, workspaceId, runId);
   const output = (run.outputs ?? []).find((o) => o.name === name);
   if (!output) throw notFound('That file');
-  return { path: deps.storage.path(storageKeys.runFile(run.workspace_id, run.id, output.name)), name: output.name };
+  return { key: storageKeys.runFile(run.workspace_id, run.id, output.name), name: output.name };
 }

@@ -66,11 +66,11 @@ export async function publicShare(db: Knex, token: string, now: Date): Promise<P
   };
 }
 
-/** Local path of a shared file (only names the run lists), counting the download. */
-export async function sharedFile(deps: { db: Knex; storagePath: (key: string) => string }, token: string, name: string, now: Date) {
+/** Storage key of a shared file (only names the run lists), counting the download. */
+export async function sharedFile(deps: { db: Knex }, token: string, name: string, now: Date) {
   const { share, run } = await liveShare(deps.db, token, now);
   const output = (run.outputs ?? []).find((o) => o.name === name);
   if (!output) throw notFound('That file');
   await countDownload(deps.db, share.id);
-  return { path: deps.storagePath(storageKeys.runFile(run.workspace_id, run.id, output.name)), name: output.name };
+  return { key: storageKeys.runFile(run.workspace_id, run.id, output.name), name: output.name };
 }

@@ -1,0 +1,16 @@
+// s3rver ships no types; the tests use only its constructor, run() and close().
+declare module 's3rver' {
+  interface S3rverOptions {
+    address?: string;
+    port?: number;
+    silent?: boolean;
+    directory?: string;
+    resetOnClose?: boolean;
+    configureBuckets?: Array<{ name: string }>;
+  }
+  export default class S3rver {
+    constructor(opts: S3rverOptions);
+    run(): Promise<{ address: string; port: number }>;
+    close(): Promise<void>;
+  }
+}
