@@ -1,5 +1,24 @@
+import { createRequire } from 'node:module';
 import PgBoss from 'pg-boss';
 import { JOBS, QUEUE_NAMES, checkRegistry, type JobDefinition, type QueueName } from './registry.ts';
+
+// pg-boss 10 marks a worked job complete or failed without awaiting it (src/manager.js, work() ->
+// onFetch), so when PostgreSQL is down at that moment the rejection goes unhandled and Node ends the
+// process. The job itself is safe: it stays active, expires and is retried (handlers are idempotent).
+// Marking each of those promises handled keeps the process up; callers that await them still see the error.
+type ManagerProto = Record<'complete' | 'fail', (...args: unknown[]) => Promise<unknown>> & { __bwHandled?: boolean };
+const managerProto = (createRequire(import.meta.url)('pg-boss/src/manager.js') as { prototype: ManagerProto }).prototype;
+if (!managerProto.__bwHandled) {
+  for (const method of ['complete', 'fail'] as const) {
+    const original = managerProto[method];
+    managerProto[method] = function (this: unknown, ...args: unknown[]) {
+      const result = original.apply(this, args);
+      result.catch(() => {});
+      return result;
+    };
+  }
+  managerProto.__bwHandled = true;
+}
 
 export interface Queue {
   boss: PgBoss;
