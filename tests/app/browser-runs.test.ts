@@ -274,4 +274,36 @@ describe('browser: recipe, upload, run, download, share', () => {
     await page.screenshot({ path: `${SCREENSHOTS}/upload-error.png`, fullPage: true });
     await context.close();
   });
+
+  it('a helper sees runs and downloads but no controls that write', async () => {
+    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const page = await context.newPage();
+    onTestFailed(() => page.screenshot({ path: `${SCREENSHOTS}/browser-runs-failure-3.png`, fullPage: true }).then(() => undefined));
+    await page.goto(`${server.url}/w/${fixture.workspaceId}/runs`);
+    await page.waitForURL(/\/sign-in/);
+    await page.getByLabel('E-mail').fill(fixture.users.helper.email);
+    await page.getByLabel('Password').fill(TEST_PASSWORD);
+    await page.getByRole('button', { name: 'Sign in' }).click();
+    await page.getByRole('heading', { name: 'Runs', exact: true }).waitFor();
+    // The runs of the first test are listed, newest first, each with its state.
+    const runLinks = page.getByRole('link', { name: /Courier deck/ });
+    await runLinks.first().waitFor();
+    expect(await runLinks.count()).toBeGreaterThanOrEqual(2);
+    await page.screenshot({ path: `${SCREENSHOTS}/runs-list.png`, fullPage: true });
+    await runLinks.first().click();
+    await page.getByTestId('run-state').getByText('done', { exact: true }).waitFor();
+    await page.getByRole('link', { name: /Bundle/ }).waitFor();
+    expect(await page.getByRole('button', { name: 'Cancel run' }).count()).toBe(0);
+    expect(await page.getByRole('button', { name: 'Create share link' }).count()).toBe(0);
+
+    await page.getByRole('navigation', { name: 'Workspace' }).getByRole('link', { name: 'Recipes' }).click();
+    await page.getByRole('link', { name: /Courier deck/ }).first().waitFor();
+    expect(await page.getByRole('link', { name: 'New recipe' }).count()).toBe(0);
+    expect(await page.getByRole('button', { name: /^(Duplicate|Archive|Unarchive) / }).count()).toBe(0);
+    await page.getByRole('link', { name: /Courier deck/ }).first().click();
+    await page.getByTestId('geometry').waitFor();
+    expect(await page.getByRole('button', { name: /Save as a new version/ }).count()).toBe(0);
+    expect(await page.getByLabel('Name', { exact: true }).isDisabled()).toBe(true);
+    await context.close();
+  });
 });
