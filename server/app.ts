@@ -8,7 +8,9 @@ import helmet from 'helmet';
 import { pinoHttp } from 'pino-http';
 import type { AppDeps } from './context.ts';
 import { errorHandler, notFoundHandler } from './errors.ts';
-import { csrfProtection } from './middleware/auth.ts';
+import { bearerAuth, csrfProtection } from './middleware/auth.ts';
+import { tokenRoutes } from './routes/tokens.ts';
+import { openApiRoutes } from './openapi.ts';
 import { healthRoutes } from './routes/health.ts';
 import { memberRoutes } from './routes/members.ts';
 import { mailRoutes } from './routes/mail.ts';
@@ -73,17 +75,19 @@ export function createApp(deps: AppDeps): Express {
   const api = express.Router();
   api.use(express.json({ limit: '100kb' }));
   const PgStore = connectPgSimple(session);
-  api.use(
-    session({
-      name: SESSION_COOKIE,
-      store: new PgStore({ pool: deps.sessionPool, tableName: 'sessions', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
-      secret: deps.config.sessionSecret,
-      resave: false,
-      saveUninitialized: false,
-      cookie: { httpOnly: true, sameSite: 'lax', secure: deps.config.cookieSecure, maxAge: SESSION_DAYS * 24 * 3600 * 1000, path: '/' },
-    }),
-  );
+  api.use(bearerAuth(deps.db, deps.clock));
+  const sessions = session({
+    name: SESSION_COOKIE,
+    store: new PgStore({ pool: deps.sessionPool, tableName: 'sessions', createTableIfMissing: false, pruneSessionInterval: 15 * 60 }),
+    secret: deps.config.sessionSecret,
+    resave: false,
+    saveUninitialized: false,
+    cookie: { httpOnly: true, sameSite: 'lax', secure: deps.config.cookieSecure, maxAge: SESSION_DAYS * 24 * 3600 * 1000, path: '/' },
+  });
+  // Token requests carry no session: no store lookup, no cookie.
+  api.use((req, res, next) => (req.apiToken ? next() : sessions(req, res, next)));
   api.use(csrfProtection);
+  api.use('/openapi.json', openApiRoutes());
   api.use('/health', healthRoutes(deps));
   api.use('/session', sessionRoutes(deps));
   api.use('/invites', publicInviteRoutes(deps));
@@ -94,6 +98,7 @@ export function createApp(deps: AppDeps): Express {
   api.use('/workspaces/:workspaceId/recipes', recipeRoutes(deps));
   api.use('/workspaces/:workspaceId/art-sets', artSetRoutes(deps));
   api.use('/workspaces/:workspaceId/runs', runRoutes(deps));
+  api.use('/workspaces/:workspaceId/tokens', tokenRoutes(deps));
   api.use('/share', publicShareRoutes(deps));
   api.use('/workspaces', workspaceRoutes(deps));
   api.use(notFoundHandler);

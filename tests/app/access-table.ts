@@ -159,6 +159,22 @@ export const ROUTES: AccessRow[] = [
     // The maker deletes it first; the owner then finds nothing.
     expect: { ...WRITERS(204), owner: 404 },
   },
+  // API tokens and the OpenAPI document (issue 8): each member manages their own tokens.
+  { name: 'openapi document', method: 'GET', prepare: async () => ({ path: '/api/openapi.json' }), expect: PUBLIC },
+  { name: 'list tokens', method: 'GET', prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/tokens` }), expect: MEMBERS },
+  {
+    name: 'create token',
+    method: 'POST',
+    prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/tokens`, body: { name: 'Access table token' } }),
+    expect: { anonymous: 401, outsider: 404, helper: 201, maker: 201, owner: 201 },
+  },
+  {
+    name: 'revoke token',
+    method: 'DELETE',
+    // The owner's own token: other members find nothing to revoke; the owner may revoke any token here.
+    prepare: async ({ fx }) => ({ path: `/api/workspaces/${fx.workspaceId}/tokens/${(await fx.actors.owner.post(`/api/workspaces/${fx.workspaceId}/tokens`, { name: 'To revoke' })).body.token.id}` }),
+    expect: { anonymous: 401, outsider: 404, helper: 404, maker: 404, owner: 204 },
+  },
   // Runs (issue 4): recipes, art sets, runs, share links.
   ...RUN_ROUTES,
 ];
