@@ -353,7 +353,7 @@ async function main(): Promise<void> {
   }
 
   const sizes: SizeResult[] = [];
-  const rerunAt = args.counts.includes(200) ? 200 : args.counts[0]!;
+  const rerunAt = args.counts.includes(200) ? 200 : args.comparisons ? args.counts[0]! : -1;
   const file = args.counts.join(',') === '200,1000' ? 'latest.json' : `cards-${args.counts.join('-')}.json`;
   const commit = execFileSync('git', ['rev-parse', '--short', 'HEAD'], { cwd: ROOT, encoding: 'utf8' }).trim();
   const loadAtStart = round(os.loadavg()[0]!, 2);
