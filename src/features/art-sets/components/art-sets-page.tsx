@@ -78,7 +78,10 @@ function UploadPanel({ workspaceId }: { workspaceId: string }) {
     e.preventDefault();
     setDragging(false);
     const dropped = e.dataTransfer.files[0];
-    if (dropped) choose(dropped);
+    if (!dropped) return;
+    // Show the dropped file in the file input too, so the page tells one story.
+    if (input.current) input.current.files = e.dataTransfer.files;
+    choose(dropped);
   };
   const submit = (e: FormEvent) => {
     e.preventDefault();
