@@ -71,6 +71,54 @@ describe('CSRF', () => {
   });
 });
 
+describe('objects of another workspace', () => {
+  it('answer 404 to the owner of another workspace asking through their own workspace, for every kind of object', async () => {
+    const ctx = { fx, server, db: server.deps.db };
+    const db = server.deps.db;
+    const { runId, cardId } = await runFixture(ctx);
+    const share = await shareFixture(ctx);
+    const run = await db('runs').where({ id: runId }).first();
+    const recipeId = (await db('recipe_versions').where({ id: run.recipe_version_id }).first()).recipe_id;
+    const artSetId = (await db('art_set_revisions').where({ id: run.art_set_revision_id }).first()).art_set_id;
+    const sheetBody = { name: 'Foreign sheet', currency: 'EUR', tiers: [{ maxCards: 54, pricePerSet: 9 }], setupFee: 0, setupWaivedAtSets: 1, stocks: [] };
+    const sheet = await fx.actors.owner.post(`/api/workspaces/${fx.workspaceId}/price-sheets`, sheetBody);
+    expect(sheet.status).toBe(201);
+    const theirs = `/api/workspaces/${fx.otherWorkspaceId}`;
+    const tries: Array<[string, string, unknown?]> = [
+      ['GET', `${theirs}/recipes/${recipeId}`],
+      ['GET', `${theirs}/recipes/${recipeId}/versions/1`],
+      ['PUT', `${theirs}/recipes/${recipeId}`, { settings: { name: 'Taken over' } }],
+      ['POST', `${theirs}/recipes/${recipeId}/duplicate`, {}],
+      ['POST', `${theirs}/recipes/${recipeId}/archive`, { archived: true }],
+      ['GET', `${theirs}/art-sets/${artSetId}`],
+      ['GET', `${theirs}/art-sets/${artSetId}/revisions/1/thumbnail?path=card-01.png`],
+      ['POST', `${theirs}/runs`, { recipeId, artSetId }],
+      ['GET', `${theirs}/runs/${runId}`],
+      ['GET', `${theirs}/runs/${runId}/events`],
+      ['GET', `${theirs}/runs/${runId}/cards`],
+      ['GET', `${theirs}/runs/${runId}/cards/${cardId}/image?size=full`],
+      ['GET', `${theirs}/runs/${runId}/files/report.json`],
+      ['POST', `${theirs}/runs/${runId}/cancel`, {}],
+      ['POST', `${theirs}/runs/${runId}/follow`, { follow: true }],
+      ['GET', `${theirs}/runs/${share.runId}/shares`],
+      ['POST', `${theirs}/runs/${runId}/shares`, { expiresInHours: 2 }],
+      ['DELETE', `${theirs}/runs/${share.runId}/shares/${share.shareId}`],
+      ['GET', `${theirs}/price-sheets/${sheet.body.priceSheet.id}`],
+      ['PATCH', `${theirs}/price-sheets/${sheet.body.priceSheet.id}`, { ...sheetBody, name: 'Taken over' }],
+      ['DELETE', `${theirs}/price-sheets/${sheet.body.priceSheet.id}`],
+    ];
+    for (const [method, path, body] of tries) {
+      const res = await fx.actors.outsider.request(method, path, method === 'GET' ? undefined : body);
+      expect(res.status, `${method} ${path}`).toBe(404);
+    }
+    // Nothing changed here.
+    expect((await fx.actors.owner.get(`/api/workspaces/${fx.workspaceId}/recipes/${recipeId}`)).body.recipe.archived).toBe(false);
+    expect((await fetch(`${server.url}/api/share/${share.token}`)).status).toBe(200);
+    expect((await fx.actors.owner.get(`/api/workspaces/${fx.workspaceId}/price-sheets/${sheet.body.priceSheet.id}`)).status).toBe(200);
+    expect((await db('runs').where({ workspace_id: fx.otherWorkspaceId })).length).toBe(0);
+  });
+});
+
 describe('sessions follow membership at once', () => {
   it('a removed member’s open session loses the workspace on the next request; a demoted maker cannot write', async () => {
     const member = await createUser(server.deps.db, 'leaving');

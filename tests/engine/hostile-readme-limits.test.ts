@@ -1,0 +1,50 @@
+// README "Limits and safety" states the limits a card maker meets; this keeps every row equal to the
+// value the code really uses (issue 6: "the README's limits match the code").
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { DEFAULT_ARCHIVE_LIMITS } from '../../jobs/engine/archive.ts';
+import { runsConfigFromEnv } from '../../jobs/runs/runtime.ts';
+import { SIGN_IN_MAX_FAILURES, SIGN_IN_WINDOW_MS } from '../../server/services/auth.ts';
+import { createShareBodySchema } from '../../shared/api/runs.ts';
+import { PREFLIGHT_CONFIG } from '../../shared/findings.ts';
+import { MAX_COPIES, MAX_DPI, MAX_TRIM_MM, MIN_DPI, parseRecipe } from '../../shared/recipe.ts';
+
+const readme = readFileSync('README.md', 'utf8');
+const section = readme.slice(readme.indexOf('## Limits and safety'), readme.indexOf('\n## ', readme.indexOf('## Limits and safety') + 5));
+
+/** The value cell of the table row whose first cell is `label`. */
+function row(label: string): string {
+  const line = section.split('\n').find((l) => l.startsWith(`| ${label} |`));
+  if (!line) throw new Error(`README "Limits and safety" has no row "${label}"`);
+  return line.split('|')[2]!.trim();
+}
+const MB = 1024 * 1024;
+
+describe('README limits match the code', () => {
+  it('archive and upload limits', () => {
+    expect(row('upload size')).toBe(`${runsConfigFromEnv({}).uploadMaxBytes / MB} MB (\`BLEEDWRIGHT_UPLOAD_MAX_MB\`)`);
+    expect(row('entries in one zip')).toBe(String(DEFAULT_ARCHIVE_LIMITS.maxEntries));
+    expect(row('one file, unpacked')).toBe(`${DEFAULT_ARCHIVE_LIMITS.maxEntryBytes / MB} MB`);
+    expect(row('whole zip, unpacked')).toBe(`${DEFAULT_ARCHIVE_LIMITS.maxTotalBytes / MB} MB`);
+    expect(row('unpacked : packed ratio')).toBe(`${DEFAULT_ARCHIVE_LIMITS.maxRatio} : 1 (files over ${DEFAULT_ARCHIVE_LIMITS.ratioFloorBytes / MB} MB)`);
+  });
+
+  it('image, recipe and manifest limits', () => {
+    expect(row('pixels in one image')).toBe(`${PREFLIGHT_CONFIG.maxInputPixels / 1e6} megapixels`);
+    expect(row('copies of one card')).toBe(`0 to ${MAX_COPIES}`);
+    expect(row('resolution')).toBe(`${MIN_DPI} to ${MAX_DPI} DPI`);
+    expect(row('trim')).toBe(`up to ${MAX_TRIM_MM} mm a side, more than 0`);
+    const multiple = /^1 to (\d+)$/.exec(row('sheet multiple'))![1]!;
+    expect(() => parseRecipe({ name: 'x', sheet: { multiple: Number(multiple), pad: 'blank' } })).not.toThrow();
+    expect(() => parseRecipe({ name: 'x', sheet: { multiple: Number(multiple) + 1, pad: 'blank' } })).toThrow();
+  });
+
+  it('request, sign-in and share-link limits', () => {
+    const json = /^(\d+) KB$/.exec(row('JSON request body'))![1]!;
+    expect(readFileSync('server/app.ts', 'utf8')).toContain(`express.json({ limit: '${json}kb' })`);
+    expect(row('failed sign-ins')).toBe(`${SIGN_IN_MAX_FAILURES} per address in ${SIGN_IN_WINDOW_MS / 60_000} minutes`);
+    const hours = /^1 to (\d+) hours$/.exec(row('share links'))![1]!;
+    expect(createShareBodySchema.safeParse({ expiresInHours: Number(hours) }).success).toBe(true);
+    expect(createShareBodySchema.safeParse({ expiresInHours: Number(hours) + 1 }).success).toBe(false);
+  });
+});
