@@ -72,6 +72,9 @@ export function WorkspaceLayout() {
           <NavLink to="price-sheets" className={navClass}>
             Price sheets
           </NavLink>
+          <NavLink to="tokens" className={navClass}>
+            API tokens
+          </NavLink>
           {role && role !== 'helper' && (
             <NavLink to="members" className={navClass}>
               Members

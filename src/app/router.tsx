@@ -15,6 +15,7 @@ import { HomePage } from '../features/home/components/home-page';
 import { RecipePreviewPage } from '../features/recipe-preview/components/recipe-preview-page';
 import { PlannerPage } from '../features/planner/components/planner-page';
 import { PriceSheetsPage } from '../features/price-sheets/components/price-sheets-page';
+import { TokensPage } from '../features/tokens/components/tokens-page';
 import { DeckPage } from '../features/deck/components/deck-page';
 import { ProofViewerPage } from '../features/proof-viewer/components/proof-viewer-page';
 import { RequireSession, WorkspaceLayout } from './layout';
@@ -48,6 +49,7 @@ export const router = createBrowserRouter([
           { path: 'preview', element: <RecipePreviewPage /> },
           { path: 'plan', element: <PlannerPage /> },
           { path: 'price-sheets', element: <PriceSheetsPage /> },
+          { path: 'tokens', element: <TokensPage /> },
         ],
       },
     ],
