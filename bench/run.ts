@@ -354,7 +354,7 @@ async function main(): Promise<void> {
 
   const sizes: SizeResult[] = [];
   const rerunAt = args.counts.includes(200) ? 200 : args.comparisons ? args.counts[0]! : -1;
-  const file = args.counts.join(',') === '200,1000' ? 'latest.json' : `cards-${args.counts.join('-')}.json`;
+  const file = args.counts.join(',') === '200,1000' && args.comparisons && args.workers ? 'latest.json' : `cards-${args.counts.join('-')}${args.comparisons ? '' : '-engine'}.json`;
   const commit = execFileSync('git', ['rev-parse', '--short', 'HEAD'], { cwd: ROOT, encoding: 'utf8' }).trim();
   const loadAtStart = round(os.loadavg()[0]!, 2);
   // Written after every size, so a long run that is stopped still leaves what it measured.
