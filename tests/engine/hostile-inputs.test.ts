@@ -115,6 +115,20 @@ describe('entry names', () => {
   });
 });
 
+describe('zip bomb totals', () => {
+  it('counts the total unpacked bytes before unpacking (declared sizes) and while unpacking (real bytes)', async () => {
+    const zeros = Buffer.alloc(3 * 1024 * 1024);
+    const limits = { maxTotalBytes: 4 * 1024 * 1024, maxEntryBytes: 100 * 1024 * 1024, ratioFloorBytes: 1024 * 1024 * 1024 };
+    const honest = await zipFile(makeZip([{ name: 'a.png', data: zeros, deflate: true }, { name: 'b.png', data: zeros, deflate: true }]));
+    expect(await codeOf(openArtSet(honest, limits))).toBe('ARCHIVE_TOO_LARGE');
+    // The same two entries claiming 10 bytes each pass the central directory; the second read trips the total.
+    const liar = await zipFile(makeZip([{ name: 'a.png', data: zeros, deflate: true, declaredSize: 10 }, { name: 'b.png', data: zeros, deflate: true, declaredSize: 10 }]));
+    const set = await openArtSet(liar, limits);
+    expect((await readEntry(set, 'a.png')).length).toBe(zeros.length);
+    expect(await codeOf(readEntry(set, 'b.png'))).toBe('ARCHIVE_TOO_LARGE');
+  });
+});
+
 describe('files that are not what their name says', () => {
   const recipe = parseRecipe({ name: 'Renamed deck', dpi: 72 });
   it('SVG, PDF and HTML renamed as images are NOT_AN_IMAGE errors, never decoded', async () => {
