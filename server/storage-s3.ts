@@ -145,8 +145,9 @@ export function s3Storage(opts: S3StorageOptions): Storage & { client: S3Client 
   };
 }
 
-/** RFC 6266 attachment header with an ASCII fallback and the UTF-8 name (RFC 5987). */
+/** RFC 6266 attachment header; names beyond plain ASCII add the UTF-8 form (RFC 5987) beside a fallback. */
 export function contentDisposition(filename: string): string {
   const ascii = filename.replace(/[^\x20-\x7e]|["\\]/g, '_');
+  if (ascii === filename) return `attachment; filename="${filename}"`;
   return `attachment; filename="${ascii}"; filename*=UTF-8''${encodeURIComponent(filename)}`;
 }
