@@ -6,6 +6,7 @@ import { resolve } from 'node:path';
 import { createLogger } from './logger.ts';
 import { startServer, type RunningServer } from './server.ts';
 import { storageFromEnv } from './storage-config.ts';
+import { startFakeS3ForDemo } from './storage-fake.ts';
 
 function sessionSecret(dataDir: string): string {
   if (process.env.SESSION_SECRET) return process.env.SESSION_SECRET;
@@ -25,6 +26,9 @@ if (!databaseUrl) {
 const dataDir = resolve(process.env.BLEEDWRIGHT_DATA ?? '.data');
 const logger = createLogger();
 const smtpUrl = process.env.SMTP_URL ? new URL(process.env.SMTP_URL) : null;
+
+// BLEEDWRIGHT_S3_FAKE=1: try object storage on one machine with a local fake S3 (README: Object storage).
+const fakeS3 = process.env.BLEEDWRIGHT_S3_FAKE === '1' ? await startFakeS3ForDemo(process.env, dataDir) : null;
 
 let running: RunningServer;
 try {
@@ -61,6 +65,7 @@ const line = '-'.repeat(64);
 const shownUrl = running.deps.config.publicUrl.replace(/\/$/, '');
 const out = [line, `Bleedwright is running at ${shownUrl}`];
 if (running.mailCatcher) out.push(`Captured mail (owners): ${shownUrl}/w/${running.demo?.workspaceId ?? ''}/mail  (SMTP 127.0.0.1:${running.mailCatcher.port})`);
+if (fakeS3) out.push(`Object storage: local fake S3 at ${fakeS3.endpoint}, bucket "${process.env.BLEEDWRIGHT_S3_BUCKET}" (files under ${dataDir}/s3)`);
 if (running.inbox) out.push(`Inbox folder: ${resolve(process.env.BLEEDWRIGHT_INBOX ?? 'INBOX')}/<workspace-slug>/<recipe-slug>/*.zip`);
 if (running.demo) {
   out.push('', 'Demo sign-ins (workspace "Tidewhistle Orchard"):');
@@ -74,6 +79,7 @@ async function stop() {
   if (stopping) return;
   stopping = true;
   await running.close().catch(() => {});
+  await fakeS3?.close().catch(() => {});
   process.exit(0);
 }
 process.once('SIGINT', stop);

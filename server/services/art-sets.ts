@@ -81,7 +81,12 @@ export async function importArtSetZip(
   try {
     const hash = await hashFile(opts.tempFile);
     const existing = await findRevisionBySha(db, opts.workspaceId, hash);
-    if (existing) return { artSetId: existing.art_set_id, revision: existing.revision, deduplicated: true };
+    if (existing) {
+      // The same bytes again also put back a zip the storage lacks (e.g. after moving to object storage).
+      const existingKey = storageKeys.blob(opts.workspaceId, hash);
+      if (!(await storage.exists(existingKey))) await storage.putFile(existingKey, opts.tempFile);
+      return { artSetId: existing.art_set_id, revision: existing.revision, deduplicated: true };
+    }
 
     const set = await openArtSet(opts.tempFile);
     const entries = await describeEntries(set);
