@@ -155,6 +155,12 @@ describe('three workers on object storage', () => {
     expect(location.startsWith(fake.endpoint)).toBe(true);
     const file = path.join(base, 'deck.pdf');
     await writeFile(file, Buffer.from(await (await fetch(location)).arrayBuffer()));
+    // Card images are streamed through the app (the CSP allows images from 'self' only), made from the store.
+    const card = (await server.deps.db('run_cards').where({ run_id: runId }).first('id')).id;
+    const thumb = await fetch(`${server.url}${api}/runs/${runId}/cards/${card}/image?size=thumb`, { headers: { Cookie: fx.actors.maker.cookie! }, redirect: 'manual' });
+    expect(thumb.status).toBe(200);
+    expect(thumb.headers.get('content-type')).toBe('image/webp');
+    expect(Buffer.from(await thumb.arrayBuffer()).subarray(8, 12).toString('latin1')).toBe('WEBP'); // RIFF container, WebP spec
     // pdfinfo (poppler-utils) as the outside check of the assembled file.
     expect(Number(/^Pages:\s+(\d+)$/m.exec(execFileSync('pdfinfo', [file], { encoding: 'utf8' }))![1])).toBe(CARDS);
   }, 240_000);
