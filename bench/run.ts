@@ -10,6 +10,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { writeCombinedPdf } from '../jobs/engine/pdf.ts';
+import { exampleRecipe, type RecipeInput } from '../shared/recipe.ts';
 import { cardName, cardPng, ensureArt, ensureZip } from './art.ts';
 import { GNU_TIME, measure, type Measured } from './measure.ts';
 import { workersBench, type WorkersBench, type WorkersResult } from './workers.ts';
@@ -34,20 +35,10 @@ const TARGETS = {
 
 // The recipe A runs: poker with 1/8 in bleed at 300 DPI, frame colour carried into the bleed, landscape
 // art turned, singles and the combined PDF (the steps B and C do too), no sheets or proof.
-const RECIPE = {
+const RECIPE: RecipeInput = {
+  ...exampleRecipe(),
   name: 'Bench deck',
-  trim: 'poker',
-  bleed: { size: 0.125, unit: 'in' },
-  safe: { size: 0.125, unit: 'in' },
-  dpi: 300,
-  source: 'auto',
-  fit: 'cover',
-  fill: { mode: 'auto' },
-  turn: 'clockwise',
-  turnRules: [],
   naming: '{name}.png',
-  order: 'natural',
-  back: { art: null, placement: 'none' },
   sheet: { multiple: 18, pad: 'none' },
   outputs: { singles: 'png', pdf: true, sheets: null, proof: false },
 };
