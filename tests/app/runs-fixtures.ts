@@ -1,5 +1,6 @@
 // Shared pieces for the runs tests: small generated card art, zips, multipart uploads with the
 // actor's cookie and CSRF token, and waiting for a run to settle.
+import { spawn, type ChildProcess } from 'node:child_process';
 import { createWriteStream } from 'node:fs';
 import { mkdtemp, readdir } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
@@ -116,4 +117,43 @@ export async function startRunsServer(opts: { runs?: Partial<RunsConfig>; work?:
     await client.end();
   };
   return { server, storageRoot, tmpDir, bossSchema, stop };
+}
+
+/**
+ * Starts a worker process (`npm run worker`) against a runs server's database, storage and job schema,
+ * with short polling so tests move quickly; resolves once it says it is ready. `extraEnv` sets
+ * expiries and the like. The child joins `children` as soon as it is spawned, so a test's cleanup
+ * also kills one that never became ready.
+ */
+export async function startWorkerProcess(ctx: { server: RunningServer; storageRoot: string; bossSchema: string }, extraEnv: Record<string, string>, children: ChildProcess[]): Promise<ChildProcess> {
+  const child = spawn(process.execPath, ['--import', 'tsx', 'jobs/worker-main.ts'], {
+    env: {
+      ...process.env,
+      DATABASE_URL: process.env.DATABASE_URL,
+      BLEEDWRIGHT_STORAGE: ctx.storageRoot,
+      BLEEDWRIGHT_BOSS_SCHEMA: ctx.bossSchema,
+      BLEEDWRIGHT_SMTP_PORT: String(ctx.server.mailCatcher!.port),
+      BLEEDWRIGHT_PUBLIC_URL: ctx.server.url,
+      BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5',
+      BLEEDWRIGHT_JOB_MAINTENANCE_SECONDS: '1',
+      BLEEDWRIGHT_WORKER_CONCURRENCY: '2',
+      LOG_LEVEL: 'warn',
+      ...extraEnv,
+    },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  children.push(child);
+  let errors = '';
+  child.stderr!.on('data', (d) => (errors += d));
+  await new Promise<void>((resolve, reject) => {
+    const timer = setTimeout(() => reject(new Error(`worker did not start: ${errors}`)), 30_000);
+    child.stdout!.on('data', (d) => {
+      if (String(d).includes('worker ready')) {
+        clearTimeout(timer);
+        resolve();
+      }
+    });
+    child.once('exit', (code) => reject(new Error(`worker exited with ${code}: ${errors}`)));
+  });
+  return child;
 }

@@ -1,13 +1,13 @@
 // Worker processes (`npm run worker`, here `node --import tsx jobs/worker-main.ts`) against the same
 // database, storage and job schema as the app: one is killed with SIGKILL mid-run and another finishes
 // the run with every card exactly once; two together finish a run with no card rendered twice.
-import { spawn, execFileSync, type ChildProcess } from 'node:child_process';
+import { execFileSync, type ChildProcess } from 'node:child_process';
 import { readFile } from 'node:fs/promises';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import type { RunningServer } from '../../server/server.ts';
 import { storageKeys } from '../../server/storage.ts';
 import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
-import { cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+import { cardSet, smallRecipe, startRunsServer, startWorkerProcess, upload, waitForRun, zipOf } from './runs-fixtures.ts';
 
 let server: RunningServer;
 let fx: WorkspaceFixture;
@@ -31,37 +31,8 @@ afterEach(() => {
 });
 afterAll(() => stop?.());
 
-async function startWorker(): Promise<ChildProcess> {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'jobs/worker-main.ts'], {
-    env: {
-      ...process.env,
-      DATABASE_URL: process.env.DATABASE_URL,
-      BLEEDWRIGHT_STORAGE: storageRoot,
-      BLEEDWRIGHT_BOSS_SCHEMA: bossSchema,
-      BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher!.port),
-      BLEEDWRIGHT_PUBLIC_URL: server.url,
-      BLEEDWRIGHT_RENDER_EXPIRE_SECONDS: String(EXPIRE_SECONDS),
-      BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5',
-      BLEEDWRIGHT_JOB_MAINTENANCE_SECONDS: '1',
-      BLEEDWRIGHT_WORKER_CONCURRENCY: '2',
-      LOG_LEVEL: 'warn',
-    },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
-  children.push(child);
-  let errors = '';
-  child.stderr!.on('data', (d) => (errors += d));
-  await new Promise<void>((resolve, reject) => {
-    const timer = setTimeout(() => reject(new Error(`worker did not start: ${errors}`)), 30_000);
-    child.stdout!.on('data', (d) => {
-      if (String(d).includes('worker ready')) {
-        clearTimeout(timer);
-        resolve();
-      }
-    });
-    child.once('exit', (code) => reject(new Error(`worker exited with ${code}: ${errors}`)));
-  });
-  return child;
+function startWorker(): Promise<ChildProcess> {
+  return startWorkerProcess({ server, storageRoot, bossSchema }, { BLEEDWRIGHT_RENDER_EXPIRE_SECONDS: String(EXPIRE_SECONDS) }, children);
 }
 
 async function queuedRun(name: string, cards: number, dpi: number) {
