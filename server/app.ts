@@ -21,6 +21,7 @@ import { priceSheetRoutes } from './routes/price-sheets.ts';
 import { recipeRoutes } from './routes/recipes.ts';
 import { artSetRoutes } from './routes/art-sets.ts';
 import { runRoutes } from './routes/runs.ts';
+import { guideRoutes } from './routes/guide.ts';
 import { publicShareRoutes } from './routes/shares.ts';
 
 const SESSION_DAYS = 14;
@@ -98,6 +99,7 @@ export function createApp(deps: AppDeps): Express {
   api.use('/workspaces/:workspaceId/recipes', recipeRoutes(deps));
   api.use('/workspaces/:workspaceId/art-sets', artSetRoutes(deps));
   api.use('/workspaces/:workspaceId/runs', runRoutes(deps));
+  api.use('/workspaces/:workspaceId/guide', guideRoutes(deps));
   api.use('/workspaces/:workspaceId/tokens', tokenRoutes(deps));
   api.use('/share', publicShareRoutes(deps));
   api.use('/workspaces', workspaceRoutes(deps));

@@ -102,6 +102,9 @@ const runCardSchema = z
     turn: z.string().nullable(),
     fill: z.string().nullable(),
     findings: z.array(z.object({ code: z.string(), severity: z.enum(['info', 'warn', 'error']), message: z.string() }).loose()),
+    deckOrder: z.number().int().nullable().describe("Fronts: 1-based place in the engine's print order, before copies; null for backs"),
+    copies: z.number().int().nullable().describe('Fronts: copies in the deck (manifest copies, default 1; 0 leaves the card out); null for backs'),
+    back: z.uuid().nullable().describe("Fronts: id of the back card printed on this card's reverse; null when none"),
   })
   .openapi('RunCard');
 
@@ -188,6 +191,7 @@ const DOCS: Doc[] = [
   { method: 'get', path: `${ws}/runs/{runId}`, summary: 'One run: state, progress, outputs (poll until done, failed or canceled)', tag: 'runs', auth: 'member', params: ['runId'], response: z.object({ run: runDetailSchema }) },
   { method: 'get', path: `${ws}/runs/{runId}/events`, summary: 'Server-sent events: the run detail once a second until it ends', tag: 'runs', auth: 'member', params: ['runId'], response: { file: 'text/event-stream' } },
   { method: 'get', path: `${ws}/runs/{runId}/cards`, summary: 'The cards of a run', tag: 'runs', auth: 'member', params: ['runId'], query: cardListQuerySchema, response: z.object({ cards: z.array(runCardSchema) }) },
+  { method: 'get', path: `${ws}/guide`, summary: "First-run guide steps the caller has done here (a card opened at full size, a combined PDF downloaded)", tag: 'runs', auth: 'member', response: z.object({ guide: z.object({ proofChecked: z.boolean(), pdfDownloaded: z.boolean() }) }) },
   { method: 'get', path: `${ws}/runs/{runId}/cards/{cardId}/image`, summary: 'A conformed card (png) or its thumbnail (webp)', tag: 'runs', auth: 'member', params: ['runId', 'cardId'], query: cardImageQuerySchema, response: { file: 'image/*' } },
   { method: 'post', path: `${ws}/runs/{runId}/cancel`, summary: 'Cancel a run', tag: 'runs', auth: 'member', params: ['runId'], response: z.object({ run: runDetailSchema }) },
   { method: 'post', path: `${ws}/runs/{runId}/follow`, summary: 'Get (or stop) the end-of-run mail', tag: 'runs', auth: 'member', params: ['runId'], body: followBodySchema, response: z.object({ run: runDetailSchema }) },

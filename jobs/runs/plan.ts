@@ -1,6 +1,8 @@
 // run-plan {runId}: lists the cards, inserts their rows (idempotently), computes what changed since the
 // previous run, takes cached renders, and fans out one run-render job per remaining card.
+import { orderFronts, type ManifestRow } from '../../shared/deck.ts';
 import { isBleedwrightError } from '../../shared/errors.ts';
+import type { Recipe } from '../../shared/recipe.ts';
 import type { RunDiff } from '../../shared/api/runs.ts';
 import type { Finding } from '../../shared/findings.ts';
 import { cardSources } from '../engine/run.ts';
@@ -29,6 +31,23 @@ export function diffCards(previous: ReadonlyArray<{ source: string; source_sha25
   return diff;
 }
 
+export type DeckColumns = { deck_order: number | null; copies: number | null; back_source: string | null };
+
+/**
+ * The engine's deck plan for each source, as stored on the card rows: fronts get their place in print
+ * order, their copies and the back on their reverse (the manifest's back with `interleaved`, else the
+ * recipe's common back); backs get nulls. Which fronts end up in the PDF still depends on which render.
+ */
+export function deckColumns(sources: ReadonlyArray<{ source: string; role: 'front' | 'back' }>, manifest: readonly ManifestRow[] | null, recipe: Pick<Recipe, 'order' | 'back' | 'sheet'>): Map<string, DeckColumns> {
+  const fronts = sources.filter((s) => s.role === 'front').map((s) => s.source);
+  const interleaved = recipe.back.placement === 'interleaved';
+  const columns = new Map<string, DeckColumns>();
+  orderFronts({ cards: fronts, recipe, manifest }).forEach((f, i) => {
+    columns.set(f.source, { deck_order: i + 1, copies: f.copies, back_source: (interleaved ? f.back : null) ?? recipe.back.art });
+  });
+  return columns;
+}
+
 export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   const loaded = await loadRun(rt, runId);
   if (!loaded) return;
@@ -37,8 +56,11 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   await transitionRun(rt.db, runId, ['queued'], 'running', { started_at: rt.db.fn.now() });
 
   let sources;
+  let manifest: ManifestRow[] | null = null;
   try {
-    sources = cardSources(await openRunArtSet(rt, loaded), recipe);
+    const set = await openRunArtSet(rt, loaded);
+    manifest = set.manifest;
+    sources = cardSources(set, recipe);
   } catch (err) {
     if (!isBleedwrightError(err)) throw err;
     await finishRunFailed(rt, runId, `${err.code}: ${err.message}`);
@@ -46,10 +68,18 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   }
   const revisionId = run.art_set_revision_id;
   const shaByPath = new Map((await listEntries(rt.db, revisionId)).map((e) => [e.path, e.sha256]));
+  const deck = deckColumns(sources, manifest, recipe);
   await insertCards(
     rt.db,
     runId,
-    sources.map((s, i) => ({ seq: i + 1, source: s.source, role: s.role, title: s.title, source_sha256: shaByPath.get(s.source) ?? '' })),
+    sources.map((s, i) => ({
+      seq: i + 1,
+      source: s.source,
+      role: s.role,
+      title: s.title,
+      source_sha256: shaByPath.get(s.source) ?? '',
+      ...(s.role === 'front' ? deck.get(s.source) : undefined),
+    })),
   );
   const cards = await listCards(rt.db, runId);
   const previous = run.previous_run_id ? await listCards(rt.db, run.previous_run_id) : null;

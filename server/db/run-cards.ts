@@ -18,12 +18,22 @@ export interface RunCardRow {
   findings: Finding[];
   attempt: number;
   finished_at: Date | null;
+  /** Fronts: 1-based place in the engine's print order, before copies. Null for backs and older runs. */
+  deck_order: number | null;
+  /** Fronts: copies in the deck (manifest, default 1). Null for backs and older runs. */
+  copies: number | null;
+  /** Fronts: art-set path of the back printed on its reverse, if any. */
+  back_source: string | null;
 }
 
 export const OPEN_CARD_STATES: CardState[] = ['pending', 'rendering'];
 
 /** Inserts the planned cards; a retried plan inserts nothing twice. */
-export async function insertCards(db: Knex, runId: string, cards: Array<Pick<RunCardRow, 'seq' | 'source' | 'role' | 'title' | 'source_sha256'>>): Promise<void> {
+export async function insertCards(
+  db: Knex,
+  runId: string,
+  cards: Array<Pick<RunCardRow, 'seq' | 'source' | 'role' | 'title' | 'source_sha256'> & Partial<Pick<RunCardRow, 'deck_order' | 'copies' | 'back_source'>>>,
+): Promise<void> {
   if (cards.length === 0) return;
   await db('run_cards')
     .insert(cards.map((c) => ({ ...c, run_id: runId })))

@@ -15,6 +15,7 @@ import {
 import type { Role } from '../roles.ts';
 import type { AppDeps } from '../context.ts';
 import { ANY_ROLE, requireMember } from '../middleware/auth.ts';
+import { recordGuideStep } from '../db/guide-progress.ts';
 import { cancelRun, cardImage, followRun, runCards, runDetail, runOutputFile, runSummaries, startRun } from '../services/runs.ts';
 import { createShare, revoke, shareList } from '../services/shares.ts';
 import { parseId } from './recipes.ts';
@@ -86,6 +87,8 @@ export function runRoutes(deps: AppDeps): Router {
   router.get('/:runId/cards/:cardId/image', read, async (req, res) => {
     const { size } = cardImageQuerySchema.parse(req.query);
     const img = await cardImage({ db, storage, workDir: deps.runs.config.workDir }, req.member!.workspaceId, runId(req.params.runId), parseId(req.params.cardId, 'That card'), size);
+    // A card looked at full size (the proof viewer asks for it) ticks the guide's "check the proof" step.
+    if (size === 'full') await recordGuideStep(db, req.member!.workspaceId, req.member!.userId, 'proof');
     await sendStored(res, storage, img.key, { contentType: img.type, cacheControl: 'private, max-age=3600' });
   });
 
@@ -105,6 +108,7 @@ export function runRoutes(deps: AppDeps): Router {
 
   router.get('/:runId/files/:name', read, async (req, res) => {
     const file = await runOutputFile({ db, storage }, req.member!.workspaceId, runId(req.params.runId), String(req.params.name));
+    if (file.kind === 'pdf') await recordGuideStep(db, req.member!.workspaceId, req.member!.userId, 'pdf');
     await sendAttachment(res, storage, file.key, file.name);
   });
 

@@ -110,7 +110,7 @@ export async function followRun(db: Knex, workspaceId: string, runId: string, us
   await setFollowing(db, runId, userId, follow);
 }
 
-function cardView(c: RunCardRow): RunCard {
+function cardView(c: RunCardRow, backIds: ReadonlyMap<string, string>): RunCard {
   const info = (c.info ?? {}) as { sourcePx?: { w: number; h: number } | null; effectiveDpi?: number; turn?: string; fill?: string };
   return {
     id: c.id,
@@ -125,6 +125,9 @@ function cardView(c: RunCardRow): RunCard {
     turn: info.turn ?? null,
     fill: info.fill ?? null,
     findings: c.findings,
+    deckOrder: c.deck_order,
+    copies: c.copies,
+    back: c.back_source === null ? null : (backIds.get(c.back_source) ?? null),
   };
 }
 
@@ -132,7 +135,8 @@ function cardView(c: RunCardRow): RunCard {
 export async function runCards(db: Knex, workspaceId: string, runId: string, severity?: Severity): Promise<RunCard[]> {
   await findRunOr404(db, workspaceId, runId);
   const cards = await listCards(db, runId);
-  return cards.filter((c) => !severity || c.findings.some((f) => f.severity === severity)).map(cardView);
+  const backIds = new Map(cards.filter((c) => c.role === 'back').map((c) => [c.source, c.id]));
+  return cards.filter((c) => !severity || c.findings.some((f) => f.severity === severity)).map((c) => cardView(c, backIds));
 }
 
 /** Storage key of a card's conformed PNG (full) or of its cached webp thumbnail (made on first ask). */
@@ -155,5 +159,5 @@ export async function runOutputFile(deps: { db: Knex; storage: Storage }, worksp
   const run = await findRunOr404(deps.db, workspaceId, runId);
   const output = (run.outputs ?? []).find((o) => o.name === name);
   if (!output) throw notFound('That file');
-  return { key: storageKeys.runFile(run.workspace_id, run.id, output.name), name: output.name };
+  return { key: storageKeys.runFile(run.workspace_id, run.id, output.name), name: output.name, kind: output.kind };
 }

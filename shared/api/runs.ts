@@ -163,7 +163,17 @@ export type RunCard = {
   turn: string | null;
   fill: string | null;
   findings: Finding[];
+  /** Fronts: 1-based place in the engine's print order (before copies); null for backs. */
+  deckOrder: number | null;
+  /** Fronts: copies the deck holds (manifest `copies`, default 1; 0 leaves the card out); null for backs. */
+  copies: number | null;
+  /** Fronts: id of the back card printed on this card's reverse (manifest `back` with `interleaved`, else the recipe's back); null when none. */
+  back: string | null;
 };
+
+/** First-run guide steps the signed-in member has done in the workspace (GET /workspaces/:id/guide). */
+export type GuideProgress = { proofChecked: boolean; pdfDownloaded: boolean };
+export type GuideResponse = { guide: GuideProgress };
 
 export type RunListResponse = { runs: RunSummary[] };
 export type RunResponse = { run: RunDetail };

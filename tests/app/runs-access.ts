@@ -92,6 +92,7 @@ export const RUN_ROUTES: AccessRow[] = [
   // Server-sent events; a finished run sends its detail once and ends the stream.
   { name: 'run events', method: 'GET', prepare: async (ctx) => ({ path: `${ws(ctx)}/runs/${(await runFixture(ctx)).runId}/events` }), expect: MEMBERS },
   { name: 'run cards', method: 'GET', prepare: async (ctx) => ({ path: `${ws(ctx)}/runs/${(await runFixture(ctx)).runId}/cards` }), expect: MEMBERS },
+  { name: 'first-run guide progress', method: 'GET', prepare: async (ctx) => ({ path: `${ws(ctx)}/guide` }), expect: MEMBERS },
   {
     name: 'card image',
     method: 'GET',
