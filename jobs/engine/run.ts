@@ -1,37 +1,22 @@
 // The engine without a database: a thin loop over reusable pieces. The pg-boss render job calls
 // conformCard per card and the assemble job calls assembleOutputs; the CLI calls runEngine.
 import { createHash, randomBytes } from 'node:crypto';
-import { access, copyFile, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { access, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import sharp from 'sharp';
-import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
 import { BleedwrightError } from '../../shared/errors.ts';
 import type { Finding } from '../../shared/findings.ts';
-import { FORMAT_EXT, folderOf, renderName, slugify, stemOf, uniqueNames } from '../../shared/naming.ts';
-import { recipeGeometry, type Recipe } from '../../shared/recipe.ts';
+import type { Recipe } from '../../shared/recipe.ts';
+import { assembleOutputs, inside, writeAtomic, type Progress, type RenderedCard } from './assemble.ts';
 import { imagePaths, openArtSet, readEntry, type ArchiveLimits, type ArtSet, type SkippedEntry } from './archive.ts';
-import { conformCard, encodeSingle, type CardInfo, type RejectedCard } from './conform.ts';
-import { writeCombinedPdf, type PdfPage } from './pdf.ts';
+import { conformCard } from './conform.ts';
 import { markDuplicates } from './preflight.ts';
-import { writeProof } from './proof.ts';
-import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
-import { writeImposedSheets } from './sheets.ts';
-import { writeZip } from './zip-writer.ts';
+import type { RunReport } from './report.ts';
+
+export { assembleOutputs, writeBundle, type Progress, type RenderedCard } from './assemble.ts';
 
 /** Cards conformed at once: two keeps both cores of a small machine busy without doubling memory. */
 export const CARDS_IN_FLIGHT = 2;
-
-export type Progress = { phase: 'cards' | 'pdf' | 'sheets' | 'proof' | 'report' | 'bundle'; done: number; total: number; current?: string };
-
-/** One conformed (or rejected) source image, as the render step leaves it for assembly. */
-export type RenderedCard = {
-  source: string;
-  role: 'front' | 'back';
-  title: string | null;
-  /** The conformed PNG on disk (8-bit RGB with bleed), or null when the card was rejected. */
-  pngPath: string | null;
-  info: CardInfo | RejectedCard['info'];
-};
 
 export type RunResult = {
   report: RunReport;
@@ -39,21 +24,6 @@ export type RunResult = {
   exitCode: 0 | 1;
   outDir: string;
 };
-
-/** Resolves `name` inside `dir` and refuses anything that would land outside it. */
-function inside(dir: string, name: string): string {
-  const full = path.resolve(dir, name);
-  const rel = path.relative(path.resolve(dir), full);
-  if (rel === '' || rel.startsWith('..') || path.isAbsolute(rel)) {
-    throw new BleedwrightError('OUTPUT_PATH', `"${name}" would be written outside the output folder`);
-  }
-  return full;
-}
-
-async function writeAtomic(target: string, data: Buffer | string): Promise<void> {
-  await writeFile(`${target}.tmp`, data);
-  await rename(`${target}.tmp`, target);
-}
 
 async function mapLimited<T, R>(items: readonly T[], limit: number, fn: (item: T, index: number) => Promise<R>): Promise<R[]> {
   const results = new Array<R>(items.length);
@@ -161,216 +131,6 @@ async function fileExists(p: string): Promise<boolean> {
   } catch {
     return false;
   }
-}
-
-function errorText(findings: readonly Finding[]): string | null {
-  const errors = findings.filter((f) => f.severity === 'error');
-  return errors.length ? errors.map((f) => `${f.code}: ${f.message}`).join(' ') : null;
-}
-
-function reportCardOf(card: RenderedCard, outputs: string[], copies: number): ReportCard {
-  const info = card.info;
-  const full = 'sha256' in info ? info : null;
-  return {
-    source: card.source,
-    role: card.role,
-    title: card.title,
-    state: card.pngPath ? 'done' : 'skipped',
-    skippedBecause: card.pngPath ? null : errorText(info.findings),
-    outputs,
-    copies,
-    sourcePx: info.sourcePx,
-    format: info.format,
-    effectiveDpi: full?.effectiveDpi ?? null,
-    turn: full?.turn ?? null,
-    fill: full?.fill ?? null,
-    sourceKind: full?.sourceKind ?? null,
-    sha256: full?.sha256 ?? null,
-    findings: info.findings,
-  };
-}
-
-const RESERVED_PDF_NAMES = new Set(['proof', 'sheets-letter', 'sheets-a4', 'report', 'bundle']);
-
-/** Deck, singles, combined PDF, sheets, proof, report and bundle from rendered cards. */
-export async function assembleOutputs(opts: {
-  recipe: Recipe;
-  outDir: string;
-  source: string;
-  cards: readonly RenderedCard[];
-  manifest: readonly ManifestRow[] | null;
-  skippedFiles: readonly SkippedEntry[];
-  onProgress?: (p: Progress) => void;
-}): Promise<RunReport> {
-  const { recipe, outDir, cards, onProgress } = opts;
-  const geo = recipeGeometry(recipe);
-  const bySource = new Map(cards.map((c) => [c.source, c]));
-  const usable = (src: string | null) => (src && bySource.get(src)?.pngPath ? src : null);
-
-  markDuplicates(cards.map((c) => ({ path: c.source, sha256: 'sha256' in c.info ? c.info.sha256 : null, findings: c.info.findings })));
-
-  const fronts = cards.filter((c) => c.role === 'front' && c.pngPath).map((c) => c.source);
-  const commonBack = usable(recipe.back.art);
-  const manifest = (opts.manifest ?? []).map((r) => ({ ...r, back: usable(r.back) }));
-  const plan = planDeck({ cards: fronts, recipe: { ...recipe, back: { ...recipe.back, art: commonBack } }, manifest });
-
-  // Singles: one file per copy of every front, and one per distinct back, named by the template.
-  const outputsBySource = new Map<string, string[]>();
-  const cardsDir = inside(outDir, 'cards');
-  await rm(cardsDir, { recursive: true, force: true });
-  if (recipe.outputs.singles) {
-    const ext = FORMAT_EXT[recipe.outputs.singles];
-    const wanted: Array<{ slot: DeckSlot; name: string }> = [];
-    const backsNamed = new Set<string>();
-    for (const slot of plan.slots) {
-      if (!slot.source || slot.padding) continue;
-      if (slot.kind === 'back') {
-        if (backsNamed.has(slot.source)) continue;
-        backsNamed.add(slot.source);
-      }
-      const tokens = { name: stemOf(slot.source), seq: slot.seq, copy: slot.copy, folder: folderOf(slot.source), ext };
-      wanted.push({ slot, name: renderName(recipe.naming, tokens) });
-    }
-    // A common back the deck does not place (placement "none") still gets its single: printers that
-    // take one back file for the whole deck ask for it separately.
-    if (commonBack && !backsNamed.has(commonBack)) {
-      const slot: DeckSlot = { seq: plan.slots.length + 1, kind: 'back', source: commonBack, copy: 0, padding: false };
-      wanted.push({ slot, name: renderName(recipe.naming, { name: stemOf(commonBack), seq: slot.seq, copy: 0, folder: folderOf(commonBack), ext }) });
-    }
-    const names = uniqueNames(wanted.map((w) => w.name));
-    await mkdir(cardsDir, { recursive: true });
-    for (let i = 0; i < wanted.length; i++) {
-      const { slot } = wanted[i]!;
-      const src = bySource.get(slot.source!)!;
-      const target = inside(cardsDir, names[i]!);
-      if (recipe.outputs.singles === 'png') {
-        await copyFile(src.pngPath!, `${target}.tmp`);
-        await rename(`${target}.tmp`, target);
-      } else {
-        await writeAtomic(target, await encodeSingle(await readFile(src.pngPath!), recipe.outputs.singles, recipe.dpi));
-      }
-      outputsBySource.set(slot.source!, [...(outputsBySource.get(slot.source!) ?? []), `cards/${names[i]}`]);
-    }
-  }
-
-  const pngOf = (src: string | null) => (src ? (bySource.get(src)?.pngPath ?? null) : null);
-  const title = recipe.name;
-  let pdfName: string | null = null;
-  let pages = 0;
-  if (recipe.outputs.pdf && fronts.length > 0) {
-    onProgress?.({ phase: 'pdf', done: 0, total: 1 });
-    const slug = slugify(recipe.name);
-    pdfName = `${RESERVED_PDF_NAMES.has(slug) ? `${slug}-deck` : slug}.pdf`;
-    const pdfPages: PdfPage[] = plan.slots.map((s) => (s.source ? { kind: 'card', pngPath: pngOf(s.source)! } : { kind: 'blank' }));
-    const written = await writeCombinedPdf({ pages: pdfPages, pagePt: geo.pagePt, bleedPt: geo.bleedPt, title, outPath: inside(outDir, pdfName) });
-    pages = written.pages;
-    onProgress?.({ phase: 'pdf', done: 1, total: 1 });
-  }
-
-  let sheetsName: string | null = null;
-  let sheetCount = 0;
-  if (recipe.outputs.sheets && plan.faces > 0) {
-    onProgress?.({ phase: 'sheets', done: 0, total: 1 });
-    // Faces in deck order with the back each one needs; common backs placed first/last are not faces.
-    const faceFronts: Array<string | null> = [];
-    const faceBacks: Array<string | null> = [];
-    const interleaved = recipe.back.placement === 'interleaved';
-    for (let i = 0; i < plan.slots.length; i++) {
-      const slot = plan.slots[i]!;
-      const isCommonBack = !interleaved && slot.kind === 'back' && !slot.padding && slot.copy === 0;
-      if (isCommonBack) continue;
-      faceFronts.push(pngOf(slot.source));
-      if (interleaved) {
-        faceBacks.push(pngOf(plan.slots[i + 1]?.source ?? null));
-        i++;
-      } else {
-        faceBacks.push(pngOf(commonBack));
-      }
-    }
-    sheetsName = `sheets-${recipe.outputs.sheets.paper}.pdf`;
-    const written = await writeImposedSheets({
-      fronts: faceFronts,
-      backs: faceBacks,
-      paper: recipe.outputs.sheets.paper,
-      marks: recipe.outputs.sheets.marks,
-      trimIn: geo.trimIn,
-      bleedIn: geo.bleedIn,
-      title,
-      outPath: inside(outDir, sheetsName),
-    });
-    sheetCount = written.sheets;
-    onProgress?.({ phase: 'sheets', done: 1, total: 1 });
-  }
-
-  const reportCards = cards.map((c) =>
-    reportCardOf(c, outputsBySource.get(c.source) ?? [], plan.slots.filter((s) => s.source === c.source && !s.padding && s.kind === c.role).length),
-  );
-
-  let proofName: string | null = null;
-  const proofCards = reportCards.filter((c) => c.state === 'done');
-  if (recipe.outputs.proof && proofCards.length > 0) {
-    onProgress?.({ phase: 'proof', done: 0, total: 1 });
-    proofName = 'proof.pdf';
-    await writeProof({
-      cards: proofCards.map((c) => ({
-        pngPath: pngOf(c.source)!,
-        name: c.outputs[0]?.replace(/^cards\//, '') ?? c.source,
-        findings: c.findings.map((f) => ({ code: f.code, severity: f.severity })),
-      })),
-      trimIn: geo.trimIn,
-      bleedIn: geo.bleedIn,
-      safeIn: geo.safeIn,
-      title,
-      outPath: inside(outDir, proofName),
-    });
-    onProgress?.({ phase: 'proof', done: 1, total: 1 });
-  }
-
-  const report: RunReport = {
-    recipe,
-    source: path.basename(opts.source),
-    geometry: { pagePx: geo.pagePx, trimPx: geo.trimPx, dpi: geo.dpi, pagePt: geo.pagePt, trimBoxPt: geo.trimBoxPt, bleedPt: geo.bleedPt },
-    cards: reportCards,
-    skippedFiles: [...opts.skippedFiles],
-    outputs: { singles: [...outputsBySource.values()].reduce((n, l) => n + l.length, 0), pdf: pdfName, sheets: sheetsName, proof: proofName, bundle: 'bundle.zip' },
-    totals: {
-      cards: reportCards.filter((c) => c.role === 'front' && c.state === 'done').length,
-      cardsSkipped: reportCards.filter((c) => c.state === 'skipped').length,
-      faces: plan.faces,
-      pages,
-      paddingAdded: plan.paddingAdded,
-      sheets: sheetCount,
-      findingsByCode: countFindings(reportCards),
-    },
-  };
-  onProgress?.({ phase: 'report', done: 0, total: 1 });
-  await writeReports(report, inside(outDir, 'report.json'), inside(outDir, 'report.csv'));
-
-  onProgress?.({ phase: 'bundle', done: 0, total: 1 });
-  await writeBundle(outDir, [
-    ...[...outputsBySource.values()].flat(),
-    ...[pdfName, sheetsName, proofName].filter((n): n is string => n !== null),
-    'report.json',
-    'report.csv',
-  ]);
-  onProgress?.({ phase: 'bundle', done: 1, total: 1 });
-  return report;
-}
-
-// A fixed time stamp for every bundle entry, so the same outputs always make the same zip bytes.
-const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
-
-/** Zips the listed files (paths relative to outDir) into outDir/bundle.zip. */
-export async function writeBundle(outDir: string, files: readonly string[]): Promise<void> {
-  const target = inside(outDir, 'bundle.zip');
-  const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel) }));
-  try {
-    await writeZip(`${target}.tmp`, entries, BUNDLE_MTIME);
-  } catch (err) {
-    await rm(`${target}.tmp`, { force: true });
-    throw err;
-  }
-  await rename(`${target}.tmp`, target);
 }
 
 /** Runs a whole art set through the engine into outDir. Unusable input throws a BleedwrightError. */
