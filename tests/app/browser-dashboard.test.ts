@@ -23,6 +23,7 @@ let fx: WorkspaceFixture;
 let runId: string;
 let recipeId: string;
 let cardIds: string[];
+let interleavedRunId: string;
 // Its own job schema, so workers of other test servers on the shared cluster never take its jobs.
 const bossSchema = `pgboss_d${randomBytes(4).toString('hex')}`;
 
@@ -59,6 +60,19 @@ beforeAll(async () => {
   const cards = (await fx.actors.maker.get(`${api}/runs/${runId}/cards`)).body.cards as Array<{ id: string; seq: number }>;
   cardIds = cards.sort((a, b) => a.seq - b.seq).map((c) => c.id);
   expect(cardIds).toHaveLength(6);
+
+  // A second run whose backs are interleaved: the manifest puts card-02 first with 2 copies and its own
+  // back (back-b); the others get the recipe's back (back-a).
+  const manifest = ['file,copies,back', 'card-02.png,2,back-b.png', 'card-01.png,1,', 'card-03.png,1,', ''].join('\n');
+  const interleavedFiles = { ...(await cardSet(3)), 'back-a.png': await cardPng(97, 1), 'back-b.png': await cardPng(98, 3), 'manifest.csv': Buffer.from(manifest) };
+  const interleavedRecipe = await fx.actors.maker.post(`${api}/recipes`, {
+    settings: smallRecipe('Ferry deck', { order: 'manifest', back: { art: 'back-a.png', placement: 'interleaved' }, sheet: { multiple: 4, pad: 'none' } }),
+  });
+  const interleavedArt = await upload(fx.actors.maker, `${api}/art-sets`, [{ field: 'file', name: 'ferry.zip', data: await readFile(await zipOf(interleavedFiles)) }], { name: 'Ferry art' });
+  const interleavedStart = await fx.actors.maker.post(`${api}/runs`, { recipeId: interleavedRecipe.body.recipe.id, artSetId: interleavedArt.body.artSet.id });
+  interleavedRunId = interleavedStart.body.run.id;
+  const interleaved = await waitForRun(fx.actors.maker, fx.workspaceId, interleavedRunId);
+  expect(interleaved.error ?? interleaved.state).toBe('done');
 
   browser = await chromium.launch({
     executablePath: '/usr/bin/chromium',
@@ -102,7 +116,7 @@ describe('browser: dashboard and print planning', () => {
     // Recipe, art and run are done, so only the proof and the PDF steps are left.
     expect(await guide.locator('[data-step]').evaluateAll((els) => els.map((e) => e.getAttribute('data-step')))).toEqual(['proof', 'pdf']);
     await guide.getByText('3 of 5 done').waitFor();
-    expect(await page.getByTestId('home-runs').getByLabel(/1 errors|0 errors/).count()).toBe(1);
+    expect(await page.getByTestId('home-runs').getByRole('listitem').filter({ hasText: 'Lantern deck on Lantern art' }).getByLabel(/1 errors|0 errors/).count()).toBe(1);
     await page.screenshot({ path: `${SCREENSHOTS}/home.png`, fullPage: true });
 
     // Card preview: poker in inches, then tarot, then millimetres.
@@ -166,7 +180,7 @@ describe('browser: dashboard and print planning', () => {
     // The small card's findings are beside it: 100 px across 2.5 in is 40 DPI.
     await page.getByTestId('card-findings').getByText('VERY_LOW_DPI').waitFor();
     expect(await text(page, 'card-place')).toBe('Slot 3 of 9.');
-    expect(await page.getByTestId('card-back').textContent()).toContain('slot 9 of 9');
+    expect(await page.getByTestId('card-back').textContent()).toContain('page 9 of 9');
     const img = page.getByRole('img', { name: /Card 3, card-03.png/ });
     await expect.poll(() => img.evaluate((el: HTMLImageElement) => el.complete && el.naturalWidth)).toBe(275); // poker + 1/8 in bleed at 100 DPI
     await page.screenshot({ path: `${SCREENSHOTS}/proof-viewer.png`, fullPage: true });
@@ -231,6 +245,19 @@ describe('browser: dashboard and print planning', () => {
     expect(errors).toEqual([]);
     await context.close();
 
+    // Another browser, same maker: the guide remembers the card opened at full size (recorded by the
+    // server), so only the PDF step is left.
+    const otherBrowser = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const otherPage = await otherBrowser.newPage();
+    await signIn(otherPage, fx.users.maker.email);
+    await otherPage.getByTestId('first-run-guide').getByText('4 of 5 done').waitFor();
+    expect(await otherPage.getByTestId('first-run-guide').locator('[data-step]').evaluateAll((els) => els.map((e) => e.getAttribute('data-step')))).toEqual(['pdf']);
+    const [pdf] = await Promise.all([otherPage.waitForEvent('download'), otherPage.getByRole('link', { name: /^Download .*\.pdf$/ }).click()]);
+    expect(pdf.suggestedFilename()).toMatch(/\.pdf$/);
+    // Every step done: the guide folds away.
+    await expect.poll(() => otherPage.getByTestId('first-run-guide').count(), { timeout: 10_000 }).toBe(0);
+    await otherBrowser.close();
+
     // A helper reads the price sheets and plans, but is offered no way to change them.
     const helperContext = await browser.newContext({ viewport: { width: 1280, height: 900 } });
     const helperPage = await helperContext.newPage();
@@ -243,6 +270,105 @@ describe('browser: dashboard and print planning', () => {
     await helperPage.getByLabel('Cards in one set').fill('110');
     expect(await text(helperPage, 'plan-padded')).toBe('126'); // 110 -> 126 at 18 a sheet: common practice, no source
     await helperContext.close();
+  });
+
+  it('the deck view and proof viewer show copies and each interleaved back where it sits', { timeout: 120_000 }, async () => {
+    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const page = await context.newPage();
+    const errors: string[] = [];
+    page.on('pageerror', (e) => errors.push(e.message));
+    await signIn(page, fx.users.maker.email);
+    const ws = `${server.url}/w/${fx.workspaceId}`;
+    await page.goto(`${ws}/runs/${interleavedRunId}/deck`);
+    const view = page.getByTestId('deck-view');
+    await view.waitFor();
+    // 4 faces on one sheet of 4 (card-02 twice, as the manifest asks), each with its back in the corner.
+    expect(await view.getAttribute('data-sheets')).toBe('1');
+    const slots = page.locator('[data-testid="deck-slot"]');
+    expect(await slots.evaluateAll((els) => els.map((e) => e.getAttribute('aria-label')))).toEqual([
+      'Slot 1: card-02.png, copy 1 of 2, back back-b.png',
+      'Slot 3: card-02.png, copy 2 of 2, back back-b.png',
+      'Slot 5: card-01.png, back back-a.png',
+      'Slot 7: card-03.png, back back-a.png',
+    ]);
+    expect(await page.getByTestId('slot-back').evaluateAll((els) => els.map((e) => e.getAttribute('data-back-source')))).toEqual(['back-b.png', 'back-b.png', 'back-a.png', 'back-a.png']);
+    expect(await page.getByTestId('deck-counts').textContent()).toMatch(/Card faces \(copies counted\)4Different cards3/);
+    expect(await text(page, 'deck-backs')).toContain('4 back pages');
+    await page.screenshot({ path: `${SCREENSHOTS}/deck-interleaved.png`, fullPage: true });
+
+    // The proof viewer of card-02: both copies' slots, and its own back on the page after each.
+    await slots.first().click();
+    await page.getByTestId('proof-card').waitFor();
+    expect(await text(page, 'card-place')).toBe('Slots 1, 3 of 8 (2 copies).');
+    const back = page.getByTestId('card-back');
+    expect(await back.getAttribute('data-back-source')).toBe('back-b.png');
+    expect(await back.textContent()).toContain('pages 2, 4 of 8, right after each copy');
+    await page.screenshot({ path: `${SCREENSHOTS}/proof-viewer-interleaved.png`, fullPage: true });
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it('a 400-card run page draws only the rows in view, scrolls to the last card and still filters', { timeout: 120_000 }, async () => {
+    // Settled cards written straight into PostgreSQL (this is about the table, not rendering); every
+    // tenth card has a warning. No images, so thumbnails are not asked for (only done cards have one).
+    const db = server.deps.db;
+    const model = await db('runs').where({ id: runId }).first();
+    const [big] = await db('runs')
+      .insert({ workspace_id: model.workspace_id, recipe_version_id: model.recipe_version_id, art_set_revision_id: model.art_set_revision_id, state: 'done', created_by: model.created_by, finished_at: db.fn.now() })
+      .returning('id');
+    const warn = (i: number) => i % 10 === 0;
+    const rows = Array.from({ length: 400 }, (_, n) => {
+      const i = n + 1;
+      return {
+        run_id: big.id,
+        seq: i,
+        source: `bulk/card-${String(i).padStart(4, '0')}.png`,
+        role: 'front',
+        state: 'skipped',
+        source_sha256: 'x'.repeat(64),
+        findings: JSON.stringify(warn(i) ? [{ code: 'LOW_DPI', severity: 'warn', message: `Card ${i} is below the DPI asked for.` }] : []),
+        deck_order: i,
+        copies: 1,
+      };
+    });
+    await db.batchInsert('run_cards', rows, 200);
+
+    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+    const page = await context.newPage();
+    await signIn(page, fx.users.maker.email);
+    await page.goto(`${server.url}/w/${fx.workspaceId}/runs/${big.id}`);
+    const table = page.getByTestId('cards-table');
+    await table.getByRole('link', { name: 'Inspect card 1: bulk/card-0001.png' }).waitFor();
+    expect(await table.getAttribute('aria-rowcount')).toBe('401');
+    const rendered = () => page.getByTestId('card-row').count();
+    expect(await rendered()).toBeGreaterThan(3);
+    expect(await rendered()).toBeLessThan(60);
+    await page.screenshot({ path: `${SCREENSHOTS}/run-400-cards.png`, fullPage: true });
+
+    // Keyboard: the table's scroll box takes focus and End goes to the bottom.
+    await page.getByTestId('cards-scroller').focus();
+    await page.keyboard.press('End');
+    const last = table.getByRole('link', { name: 'Inspect card 400: bulk/card-0400.png' });
+    await last.waitFor();
+    expect(await rendered()).toBeLessThan(60);
+    expect(await table.getByRole('link', { name: 'Inspect card 1: bulk/card-0001.png' }).count()).toBe(0);
+    expect(await table.locator('tr[aria-rowindex="401"]').count()).toBe(1);
+
+    // Filter: only the 40 warned cards, still windowed from the top.
+    await page.getByRole('group', { name: 'Filter cards by finding severity' }).getByRole('button', { name: 'Warnings' }).click();
+    await expect.poll(() => table.getAttribute('aria-rowcount')).toBe('41');
+    const scroller = page.getByTestId('cards-scroller');
+    await scroller.evaluate((el) => el.scrollTo({ top: 0 }));
+    await table.getByRole('link', { name: 'Inspect card 10: bulk/card-0010.png' }).waitFor();
+    expect(await table.getByRole('link', { name: /Inspect card \d+:/ }).evaluateAll((els) => els.every((e) => /card-\d{3}0\.png$/.test(e.textContent ?? '')))).toBe(true);
+    await scroller.evaluate((el) => el.scrollTo({ top: el.scrollHeight }));
+    await table.getByRole('link', { name: 'Inspect card 400: bulk/card-0400.png' }).waitFor();
+
+    // A row opens the proof viewer on that card.
+    await table.getByRole('link', { name: 'Inspect card 400: bulk/card-0400.png' }).click();
+    await page.waitForURL(new RegExp(`/runs/${big.id}/cards/[0-9a-f-]{36}$`));
+    await expect.poll(() => text(page, 'proof-position')).toContain('Card 400 of 400: bulk/card-0400.png');
+    await context.close();
   });
 
   it('a 1,000-card deck draws only the press sheets in view and scrolls to the last one', { timeout: 120_000 }, async () => {

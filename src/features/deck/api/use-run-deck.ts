@@ -9,7 +9,8 @@ import { useRunCards } from '../../runs/api/get-run-cards';
 import type { RunCard, RunDetail } from '../../runs/api/types';
 import { useRecipeVersion } from '../../recipes/api/get-recipe-version';
 
-export type DeckEntry = DeckSlot & { card: RunCard | null; copies: number };
+/** A slot of the deck with its card; for a front, the copies the deck holds and (interleaved) the back slot after it. */
+export type DeckEntry = DeckSlot & { card: RunCard | null; copies: number; back: DeckEntry | null };
 
 export type RunDeck = {
   run: RunDetail;
@@ -19,20 +20,42 @@ export type RunDeck = {
   entries: DeckEntry[];
 };
 
-/** Copies of a front: one output file per copy when singles were written, else one. */
-export const copiesOf = (card: RunCard) => Math.max(1, card.outputs.length);
+/**
+ * Copies of a front as the engine planned them (stored when the run was planned). Runs planned before
+ * that was stored have none: count one output file per copy when singles were written, else one.
+ */
+export const copiesOf = (card: RunCard) => card.copies ?? Math.max(1, card.outputs.length);
 
+/**
+ * The engine's deck from the cards API: fronts in the engine's order with their copies and backs, only
+ * the cards that were produced (as the engine does when it writes the PDF), then `planDeck`.
+ */
 export function buildDeck(cards: RunCard[], settings: Recipe, run: RunDetail): RunDeck {
-  const fronts = cards.filter((c) => c.role === 'front' && c.state === 'done').sort((a, b) => a.seq - b.seq);
-  // The run's card order is already the print order: hand it over as manifest order.
-  const manifest: ManifestRow[] = fronts.map((c, i) => ({ file: c.source, copies: copiesOf(c), back: null, title: null, row: i + 1 }));
-  const plan = planDeck({ cards: fronts.map((c) => c.source), recipe: { ...settings, order: 'manifest' }, manifest });
-  const frontBySource = new Map(fronts.map((c) => [c.source, c]));
+  const byId = new Map(cards.map((c) => [c.id, c]));
+  const produced = (c: RunCard | undefined) => (c && c.state === 'done' ? c : null);
+  const fronts = cards
+    .filter((c) => c.role === 'front' && c.state === 'done')
+    .sort((a, b) => (a.deckOrder ?? a.seq) - (b.deckOrder ?? b.seq) || a.seq - b.seq);
   const backBySource = new Map(cards.filter((c) => c.role === 'back').map((c) => [c.source, c]));
-  const entries = plan.slots.map((slot) => {
+  const commonBack = settings.back.art && produced(backBySource.get(settings.back.art)) ? settings.back.art : null;
+  // Handed over as manifest order: the API already gives the engine's order.
+  const manifest: ManifestRow[] = fronts.map((c, i) => ({
+    file: c.source,
+    copies: copiesOf(c),
+    back: c.back ? (produced(byId.get(c.back))?.source ?? null) : null,
+    title: null,
+    row: i + 1,
+  }));
+  const plan = planDeck({ cards: fronts.map((c) => c.source), recipe: { ...settings, order: 'manifest', back: { ...settings.back, art: commonBack } }, manifest });
+  const frontBySource = new Map(fronts.map((c) => [c.source, c]));
+  const entries: DeckEntry[] = plan.slots.map((slot) => {
     const card = slot.source === null ? null : ((slot.kind === 'back' ? backBySource.get(slot.source) : frontBySource.get(slot.source)) ?? frontBySource.get(slot.source) ?? null);
-    return { ...slot, card, copies: card && slot.kind === 'front' ? copiesOf(card) : 1 };
+    return { ...slot, card, copies: card && slot.kind === 'front' ? copiesOf(card) : 1, back: null };
   });
+  // Interleaved: each face's back (or blank) is the page right after it.
+  if (settings.back.placement === 'interleaved') {
+    for (let i = 0; i + 1 < entries.length; i += 2) entries[i]!.back = entries[i + 1]!;
+  }
   return { run, cards, settings, plan, entries };
 }
 

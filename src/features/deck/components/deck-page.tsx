@@ -14,9 +14,12 @@ export function DeckPage() {
   if (error) return <ErrorNote error={error} />;
   if (isPending || !deck) return <Loading what="the deck" />;
   const sheetMultiple = multiple ?? deck.settings.sheet.multiple;
-  // A back printed on every card is not a slot on the press sheet (DESIGN.md "sheet"); its page is shown apart.
-  const faces = deck.entries.filter((e) => !(e.kind === 'back' && !e.padding));
-  const backPages = deck.entries.filter((e) => e.kind === 'back' && !e.padding);
+  // A back is printed on the reverse, not in a slot of the press sheet (DESIGN.md "sheet"). Interleaved,
+  // every face's back (or blank) is the PDF page after it and is drawn on its face's slot; otherwise the
+  // common back's page is shown apart.
+  const interleaved = deck.settings.back.placement === 'interleaved';
+  const faces = interleaved ? deck.entries.filter((_, i) => i % 2 === 0) : deck.entries.filter((e) => !(e.kind === 'back' && !e.padding));
+  const backPages = interleaved ? deck.entries.filter((e, i) => i % 2 === 1 && e.kind === 'back') : deck.entries.filter((e) => e.kind === 'back' && !e.padding);
   const fronts = faces.filter((e) => e.kind === 'front' && !e.padding);
   const distinct = new Set(fronts.map((e) => e.source)).size;
   const padding = deck.entries.filter((e) => e.padding).length;
@@ -41,8 +44,8 @@ export function DeckPage() {
           )}
           {backPages.length > 0 && (
             <p className="mt-4 text-sm text-ink-soft" data-testid="deck-backs">
-              {deck.settings.back.placement === 'interleaved'
-                ? `${plural(backPages.length, 'back page')} follow their fronts in the PDF; they print on the reverse, not in extra slots.`
+              {interleaved
+                ? `Each card's back is shown in the corner of its slot. In the PDF it is the page after its front (${plural(backPages.length, 'back page')}); backs print on the reverse, not in extra slots.`
                 : `The back (${backPages[0]!.source?.split('/').pop()}) is page ${backPages[0]!.seq} of ${deck.entries.length} in the PDF, printed on the reverse of every card.`}
             </p>
           )}
@@ -51,7 +54,7 @@ export function DeckPage() {
           <dl className="grid grid-cols-2 gap-3 text-sm" data-testid="deck-counts">
             <dt className="text-ink-soft">Slots</dt>
             <dd className="font-mono">{faces.length}</dd>
-            <dt className="text-ink-soft">Card faces</dt>
+            <dt className="text-ink-soft">Card faces (copies counted)</dt>
             <dd className="font-mono">{fronts.length}</dd>
             <dt className="text-ink-soft">Different cards</dt>
             <dd className="font-mono">{distinct}</dd>

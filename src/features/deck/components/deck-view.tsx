@@ -108,7 +108,8 @@ export function DeckView({ workspaceId, runId, entries, multiple, height = 640 }
 function Slot({ workspaceId, runId, entry: e }: { workspaceId: string; runId: string; entry: DeckEntry }) {
   const name = e.source ? (e.source.split('/').pop() ?? e.source) : 'blank';
   const copyText = e.kind === 'front' && e.copies > 1 ? `copy ${e.copy} of ${e.copies}` : null;
-  const label = `Slot ${e.seq}: ${e.kind === 'blank' ? 'blank card' : e.kind === 'back' ? `back ${name}` : name}${copyText ? `, ${copyText}` : ''}${e.padding ? ', padding' : ''}`;
+  const backName = e.back ? (e.back.kind === 'back' && e.back.source ? (e.back.source.split('/').pop() ?? e.back.source) : 'blank') : null;
+  const label = `Slot ${e.seq}: ${e.kind === 'blank' ? 'blank card' : e.kind === 'back' ? `back ${name}` : name}${copyText ? `, ${copyText}` : ''}${e.padding ? ', padding' : ''}${backName ? `, back ${backName}` : ''}`;
   const body = (
     <>
       <span className={`relative flex h-[118px] w-full items-center justify-center overflow-hidden rounded-sm ${e.padding ? 'ring-2 ring-amber-400' : 'ring-1 ring-line'} ${e.kind === 'blank' ? 'bg-white' : 'bg-paper-deep'}`}>
@@ -120,6 +121,18 @@ function Slot({ workspaceId, runId, entry: e }: { workspaceId: string; runId: st
         {e.padding && <span className="absolute inset-x-0 bottom-0 bg-amber-300/90 py-0.5 text-center font-mono text-[10px] font-semibold text-amber-950">padding</span>}
         {e.kind === 'back' && !e.padding && <span className="absolute inset-x-0 bottom-0 bg-plum/90 py-0.5 text-center font-mono text-[10px] text-paper">back</span>}
         {copyText && <span className="absolute right-0.5 top-0.5 rounded bg-ink/80 px-1 font-mono text-[10px] text-paper">×{e.copies}</span>}
+        {e.back && (
+          <span
+            className="absolute left-0.5 top-0.5 block h-9 w-[26px] overflow-hidden rounded-sm bg-white shadow ring-1 ring-plum"
+            data-testid="slot-back"
+            data-back-source={e.back.source ?? ''}
+            title={`Back: ${backName}`}
+          >
+            {e.back.card && e.back.card.state === 'done' && (
+              <img src={cardImageUrl(workspaceId, runId, e.back.card.id, 'thumb')} alt="" loading="lazy" decoding="async" className="h-full w-full object-cover" />
+            )}
+          </span>
+        )}
       </span>
       <span className="mt-1 block truncate font-mono text-[10px] text-ink-soft">
         {e.seq}. {name}

@@ -1,28 +1,14 @@
 // The first-run guide: from nothing to a downloaded PDF in five steps. Steps already done are folded
-// away (hidden); what counts as done comes from the workspace's own recipes, art sets and runs, and from this
-// browser having opened a proof or downloaded a PDF.
+// away (hidden); what counts as done comes from the workspace's own recipes, art sets and runs, and from
+// what the server recorded for this member (a card opened at full size, a combined PDF downloaded), so
+// the guide is the same in every browser the member signs in from.
 import type { ReactNode } from 'react';
 import { Link } from 'react-router-dom';
+import { useQueryClient } from '@tanstack/react-query';
 import { runFileUrl } from '../../runs/api/get-run';
 import type { RunSummary } from '../../runs/api/types';
-
-const key = (workspaceId: string, what: 'proof' | 'pdf') => `bleedwright:${workspaceId}:${what}`;
-
-export function markGuideStep(workspaceId: string, what: 'proof' | 'pdf'): void {
-  try {
-    window.localStorage.setItem(key(workspaceId, what), '1');
-  } catch {
-    // Private windows may refuse storage; the guide then simply keeps the step open.
-  }
-}
-
-function stepDone(workspaceId: string, what: 'proof' | 'pdf'): boolean {
-  try {
-    return window.localStorage.getItem(key(workspaceId, what)) === '1';
-  } catch {
-    return false;
-  }
-}
+import type { GuideProgress } from '../../../../shared/api/runs';
+import { guideKey } from '../api/get-guide';
 
 type Step = { id: string; title: string; text: string; done: boolean; action: ReactNode };
 
@@ -34,6 +20,7 @@ export function FirstRunGuide({
   latestDone,
   pdfName,
   firstCardId,
+  progress,
 }: {
   workspaceId: string;
   recipes: number;
@@ -42,7 +29,11 @@ export function FirstRunGuide({
   latestDone: RunSummary | null;
   pdfName: string | null;
   firstCardId: string | null;
+  progress: GuideProgress;
 }) {
+  const queryClient = useQueryClient();
+  // The download is the browser's own request; ask again once the server has had time to record it.
+  const downloaded = () => setTimeout(() => void queryClient.invalidateQueries({ queryKey: guideKey(workspaceId) }), 1500);
   const linkClass = 'inline-flex rounded-md bg-cut px-3 py-1.5 text-sm font-semibold text-white hover:bg-cut-deep';
   const steps: Step[] = [
     {
@@ -82,7 +73,7 @@ export function FirstRunGuide({
       id: 'proof',
       title: 'Check the proof',
       text: 'Step through every card with its trim, bleed and safe lines, and read its findings.',
-      done: stepDone(workspaceId, 'proof'),
+      done: progress.proofChecked,
       action:
         latestDone && firstCardId ? (
           <Link to={`runs/${latestDone.id}/cards/${firstCardId}`} className={linkClass}>
@@ -96,10 +87,10 @@ export function FirstRunGuide({
       id: 'pdf',
       title: 'Download the PDF',
       text: 'The combined PDF the printer reads, one card per page with its TrimBox.',
-      done: stepDone(workspaceId, 'pdf'),
+      done: progress.pdfDownloaded,
       action:
         latestDone && pdfName ? (
-          <a href={runFileUrl(workspaceId, latestDone.id, pdfName)} download={pdfName} onClick={() => markGuideStep(workspaceId, 'pdf')} className={linkClass}>
+          <a href={runFileUrl(workspaceId, latestDone.id, pdfName)} download={pdfName} onClick={downloaded} className={linkClass}>
             Download {pdfName}
           </a>
         ) : (

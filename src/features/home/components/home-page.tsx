@@ -12,6 +12,7 @@ import { useQuery } from '@tanstack/react-query';
 import { runQueryOptions } from '../../runs/api/get-run';
 import { runCardsQueryOptions } from '../../runs/api/get-run-cards';
 import { FirstRunGuide } from './first-run-guide';
+import { useGuide } from '../api/get-guide';
 
 const roleText = {
   owner: 'You manage members and settings, and can do everything makers do.',
@@ -27,6 +28,7 @@ export function HomePage() {
   const recipes = useRecipes(workspaceId);
   const artSets = useArtSets(workspaceId);
   const runs = useRuns(workspaceId);
+  const guide = useGuide(workspaceId);
   const latestDone = runs.data?.find((r) => r.state === 'done') ?? null;
   const latest = useQuery({ ...runQueryOptions(workspaceId, latestDone?.id ?? ''), enabled: latestDone !== null });
   const latestCards = useQuery({ ...runCardsQueryOptions(workspaceId, latestDone?.id ?? '', null, false), enabled: latestDone !== null });
@@ -35,7 +37,7 @@ export function HomePage() {
   const canWrite = ws.role !== 'helper';
   const pdfName = latestDone ? (latest.data?.outputs.find((o) => o.kind === 'pdf')?.name ?? null) : null;
   const firstCardId = latestDone ? ([...(latestCards.data ?? [])].sort((a, b) => a.seq - b.seq)[0]?.id ?? null) : null;
-  const loaded = recipes.data && artSets.data && runs.data;
+  const loaded = recipes.data && artSets.data && runs.data && guide.data;
 
   return (
     <>
@@ -55,6 +57,7 @@ export function HomePage() {
           latestDone={latestDone}
           pdfName={pdfName}
           firstCardId={firstCardId}
+          progress={guide.data}
         />
       )}
 

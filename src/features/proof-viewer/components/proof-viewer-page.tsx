@@ -8,7 +8,6 @@ import { recipeGeometry, type RecipeGeometry } from '../../../../shared/recipe';
 import { cardImageUrl } from '../../runs/api/get-run';
 import type { RunCard } from '../../runs/api/types';
 import { useRunDeck, type DeckEntry } from '../../deck/api/use-run-deck';
-import { markGuideStep } from '../../home/components/first-run-guide';
 import { CardLines } from './card-lines';
 
 function isTyping(target: EventTarget | null): boolean {
@@ -49,8 +48,6 @@ export function ProofViewerPage() {
     },
     [ordered, navigate, workspaceId, runId],
   );
-
-  useEffect(() => markGuideStep(workspaceId, 'proof'), [workspaceId]);
 
   useEffect(() => {
     const onKey = (e: KeyboardEvent) => {
@@ -138,7 +135,7 @@ export function ProofViewerPage() {
         </Panel>
         <div className="space-y-6">
           <FindingsPanel card={card} />
-          <PlacePanel workspaceId={workspaceId} runId={runId} card={card} entries={deck.entries} placement={deck.settings.back.placement} />
+          <PlacePanel workspaceId={workspaceId} runId={runId} card={card} cards={deck.cards} entries={deck.entries} placement={deck.settings.back.placement} />
         </div>
       </div>
     </>
@@ -185,18 +182,28 @@ const PLACEMENT_TEXT: Record<string, string> = {
   none: 'This recipe places no back page in the deck.',
 };
 
-/** Where this card's copies sit in print order, and where the back sits relative to them. */
-function PlacePanel({ workspaceId, runId, card, entries, placement }: { workspaceId: string; runId: string; card: RunCard; entries: DeckEntry[]; placement: string }) {
-  const mine = entries.filter((e) => e.card?.id === card.id && !e.padding);
+/** Where this card's copies sit in print order, and the back printed on its reverse: where that page sits. */
+function PlacePanel({ workspaceId, runId, card, cards, entries, placement }: { workspaceId: string; runId: string; card: RunCard; cards: RunCard[]; entries: DeckEntry[]; placement: string }) {
+  const mine = entries.filter((e) => e.card?.id === card.id && !e.padding && e.kind === card.role);
   const first = mine[0];
-  const backEntries = entries.filter((e) => e.kind === 'back' && !e.padding);
-  const back = placement === 'interleaved' && first ? entries[first.seq] : backEntries[0];
+  // Interleaved, each copy's back is the page after it; otherwise the common back's one page.
+  const back = placement === 'interleaved' ? (first?.back ?? null) : (entries.find((e) => e.kind === 'back' && !e.padding) ?? null);
+  const planned = card.back ? (cards.find((c) => c.id === card.back) ?? null) : null;
   const around = first ? entries.slice(Math.max(0, first.seq - 3), first.seq + 2) : [];
+  const where = !back
+    ? null
+    : placement === 'interleaved'
+      ? `page${mine.length > 1 ? 's' : ''} ${mine.map((e) => e.back?.seq).join(', ')} of ${entries.length}, right after ${mine.length > 1 ? 'each copy' : 'this card'}`
+      : `page ${back.seq} of ${entries.length}, printed on the reverse of every card`;
   return (
     <Panel title="In the deck">
       <p className="text-sm" data-testid="card-place">
         {mine.length === 0
-          ? 'This card is not in the printed deck.'
+          ? card.role === 'back'
+            ? 'This is a card back.'
+            : card.copies === 0
+              ? 'The manifest asks for 0 copies: this card is not in the printed deck.'
+              : 'This card is not in the printed deck.'
           : `Slot${mine.length > 1 ? 's' : ''} ${mine.map((e) => e.seq).join(', ')} of ${entries.length}${mine.length > 1 ? ` (${mine.length} copies)` : ''}.`}
       </p>
       <p className="mt-1 text-xs text-ink-soft">{PLACEMENT_TEXT[placement] ?? ''}</p>
@@ -210,17 +217,22 @@ function PlacePanel({ workspaceId, runId, card, entries, placement }: { workspac
           ))}
         </ol>
       )}
-      {back && back.kind === 'back' && (
-        <div className="mt-4 flex items-center gap-3 rounded-md border border-line bg-white p-2" data-testid="card-back">
+      {card.role === 'front' && back && back.kind === 'back' && mine.length > 0 ? (
+        <div className="mt-4 flex items-center gap-3 rounded-md border border-line bg-white p-2" data-testid="card-back" data-back-source={back.source ?? ''}>
           <span className="w-14 shrink-0">
             <Thumb workspaceId={workspaceId} runId={runId} entry={back} />
           </span>
           <span className="text-xs">
             <span className="block font-semibold">Back: {back.source?.split('/').pop()}</span>
-            <span className="text-ink-soft">slot {back.seq} of {entries.length}</span>
+            <span className="text-ink-soft">{where}</span>
           </span>
         </div>
-      )}
+      ) : card.role === 'front' && planned ? (
+        <p className="mt-4 text-xs text-ink-soft" data-testid="card-back" data-back-source={planned.source}>
+          Back: <span className="font-mono">{planned.source.split('/').pop()}</span>
+          {placement === 'none' ? ', not placed in the deck: it goes to the printer as its own file.' : planned.state !== 'done' ? `, not produced (${planned.state}).` : '.'}
+        </p>
+      ) : null}
     </Panel>
   );
 }

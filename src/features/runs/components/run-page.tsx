@@ -1,4 +1,5 @@
-import { useEffect, useState } from 'react';
+import { useEffect, useRef, useState } from 'react';
+import { useVirtualizer } from '@tanstack/react-virtual';
 import { Link, useParams } from 'react-router-dom';
 import { useQueryClient } from '@tanstack/react-query';
 import { Button, ErrorNote, Loading, PageHeader, Panel } from '../../../components/ui';
@@ -278,50 +279,101 @@ function CardsPanel({ workspaceId, runId, live }: { workspaceId: string; runId: 
       ) : cards.data.length === 0 ? (
         <p className="text-sm text-ink-soft">{severity ? `No cards with ${severity} findings.` : 'No cards yet: the run is being planned.'}</p>
       ) : (
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm" data-testid="cards-table">
-            <thead className="text-ink-soft">
-              <tr>
-                <th className="pb-2 font-medium">
-                  <span className="sr-only">Thumbnail</span>
-                </th>
-                <th className="pb-2 font-medium">#</th>
-                <th className="pb-2 font-medium">Source</th>
-                <th className="pb-2 font-medium">State</th>
-                <th className="pb-2 font-medium">Outputs</th>
-                <th className="pb-2 font-medium">Eff. DPI</th>
-                <th className="pb-2 font-medium">Turn / fill</th>
-                <th className="pb-2 font-medium">Findings</th>
-              </tr>
-            </thead>
-            <tbody>
-              {cards.data.map((c) => (
-                <CardRow key={c.id} workspaceId={workspaceId} runId={runId} card={c} />
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <CardsTable workspaceId={workspaceId} runId={runId} cards={cards.data} />
       )}
     </Panel>
   );
 }
 
-function CardRow({ workspaceId, runId, card: c }: { workspaceId: string; runId: string; card: RunCard }) {
+const COLUMNS = 8;
+
+/**
+ * The card table, windowed with TanStack Virtual: only the rows in view (and a few around them) are in
+ * the page, between two spacer rows that keep the scroll height, so a 1,000-card run scrolls smoothly.
+ * It stays a real table (aria-rowcount / aria-rowindex tell assistive tools where a row sits), and the
+ * scroll box takes focus so the arrow and page keys move through it.
+ */
+function CardsTable({ workspaceId, runId, cards }: { workspaceId: string; runId: string; cards: RunCard[] }) {
+  const scroller = useRef<HTMLDivElement>(null);
+  const virtualizer = useVirtualizer({
+    count: cards.length,
+    getScrollElement: () => scroller.current,
+    estimateSize: () => 84,
+    overscan: 8,
+    getItemKey: (i) => cards[i]!.id,
+  });
+  const rows = virtualizer.getVirtualItems();
+  const before = rows.length ? rows[0]!.start : 0;
+  const after = rows.length ? virtualizer.getTotalSize() - rows.at(-1)!.end : 0;
+  const th = 'sticky top-0 z-10 bg-white pb-2 pt-1 font-medium shadow-[0_1px_0_var(--color-line)]';
   return (
-    <tr className="border-t border-line/70 align-top">
+    <div
+      ref={scroller}
+      className="max-h-[70vh] overflow-auto rounded-md focus-visible:outline-2 focus-visible:outline-cut"
+      tabIndex={0}
+      role="region"
+      aria-label={`Cards: ${plural(cards.length, 'row')}, scroll for more`}
+      data-testid="cards-scroller"
+    >
+      <table className="w-full text-left text-sm" data-testid="cards-table" aria-rowcount={cards.length + 1}>
+        <thead className="text-ink-soft">
+          <tr aria-rowindex={1}>
+            <th className={th}>
+              <span className="sr-only">Thumbnail</span>
+            </th>
+            <th className={th}>#</th>
+            <th className={th}>Source</th>
+            <th className={th}>State</th>
+            <th className={th}>Outputs</th>
+            <th className={th}>Eff. DPI</th>
+            <th className={th}>Turn / fill</th>
+            <th className={th}>Findings</th>
+          </tr>
+        </thead>
+        <tbody>
+          {before > 0 && (
+            <tr aria-hidden="true" style={{ height: before }}>
+              <td colSpan={COLUMNS} />
+            </tr>
+          )}
+          {rows.map((row) => (
+            <CardRow key={row.key} index={row.index} measure={virtualizer.measureElement} workspaceId={workspaceId} runId={runId} card={cards[row.index]!} />
+          ))}
+          {after > 0 && (
+            <tr aria-hidden="true" style={{ height: after }}>
+              <td colSpan={COLUMNS} />
+            </tr>
+          )}
+        </tbody>
+      </table>
+    </div>
+  );
+}
+
+function CardRow({ workspaceId, runId, card: c, index, measure }: { workspaceId: string; runId: string; card: RunCard; index: number; measure: (el: HTMLTableRowElement | null) => void }) {
+  const inspect = `/w/${workspaceId}/runs/${runId}/cards/${c.id}`;
+  return (
+    <tr ref={measure} data-index={index} aria-rowindex={index + 2} data-testid="card-row" className="border-t border-line/70 align-top">
       <td className="py-2 pr-3">
         {c.state === 'done' ? (
-          <a href={cardImageUrl(workspaceId, runId, c.id, 'full')} target="_blank" rel="noreferrer" aria-label={`Full size of card ${c.seq}`}>
-            <img src={cardImageUrl(workspaceId, runId, c.id, 'thumb')} alt="" loading="lazy" className="h-16 w-auto max-w-16 rounded-sm shadow-sm ring-1 ring-line" />
-          </a>
+          <Link to={inspect} tabIndex={-1} aria-hidden="true">
+            <img src={cardImageUrl(workspaceId, runId, c.id, 'thumb')} alt="" loading="lazy" decoding="async" className="h-16 w-auto max-w-16 rounded-sm shadow-sm ring-1 ring-line" />
+          </Link>
         ) : (
           <span className="inline-block h-16 w-11 rounded-sm bg-paper-deep" aria-hidden />
         )}
       </td>
       <td className="py-2 pr-3 font-mono text-xs">{c.seq}</td>
       <td className="py-2 pr-3">
-        <span className="font-mono text-xs">{c.source}</span>
+        <Link to={inspect} className="font-mono text-xs text-ink underline-offset-4 hover:text-cut hover:underline" aria-label={`Inspect card ${c.seq}: ${c.source}`}>
+          {c.source}
+        </Link>
         {c.role === 'back' && <span className="ml-1 rounded bg-plum px-1 font-mono text-[10px] text-paper">back</span>}
+        {c.copies !== null && c.copies !== 1 && (
+          <span className="ml-1 rounded bg-ink/80 px-1 font-mono text-[10px] text-paper" title={c.copies === 0 ? 'The manifest leaves this card out of the deck' : undefined}>
+            ×{c.copies}
+          </span>
+        )}
         {c.sourcePx && <p className="font-mono text-[11px] text-ink-soft">{c.sourcePx.w} x {c.sourcePx.h} px</p>}
       </td>
       <td className="py-2 pr-3">
