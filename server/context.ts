@@ -5,6 +5,7 @@ import type { Mailer } from './mail.ts';
 import type { Mailbox } from './mail-catcher.ts';
 import type { Storage } from './storage.ts';
 import type { RunsConfig } from '../jobs/runs/runtime.ts';
+import type { SignInLimits } from './services/sign-in-limits.ts';
 
 export interface AppConfig {
   /** Where people reach the app; used in links sent by e-mail. */
@@ -16,6 +17,8 @@ export interface AppConfig {
   clientDir: string | null;
   /** Trust X-Forwarded-* from one proxy hop (behind an https proxy). */
   trustProxy: boolean;
+  /** Sign-in guessing limits; the defaults (`SIGN_IN_LIMITS`) when absent. Tests set short lock-outs. */
+  signInLimits?: SignInLimits;
 }
 
 /** Everything the app touches outside itself, so tests can start it against the test database. */

@@ -31,7 +31,7 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.post('/', async (req, res) => {
     const { email, password } = signInSchema.parse(req.body);
-    const user = await authenticate(deps.db, email, password, deps.clock());
+    const user = await authenticate(deps.db, { email, password, ip: req.ip, now: deps.clock(), limits: deps.config.signInLimits });
     const csrfToken = await signInSession(req, user);
     req.log.info({ userId: user.id }, 'signed in');
     const body: SessionResponse = { user, csrfToken };

@@ -3,7 +3,10 @@ import type { AddressInfo } from 'node:net';
 import { createServer } from 'node:http';
 import { createApp } from '../../server/app.ts';
 import type { RunningServer } from '../../server/server.ts';
+import type { SignInCounter } from '../../server/db/sign-in-limits.ts';
+import { COUNTER_IDLE_MS, SIGN_IN_LIMITS, afterFailure, clientKey } from '../../server/services/sign-in-limits.ts';
 import { Actor, TEST_PASSWORD, createUser, startTestServer } from './fixtures.ts';
+import { IpClient, loopbackIp } from './ip-client.ts';
 
 let server: RunningServer;
 let email: string;
@@ -120,13 +123,59 @@ describe('health when a part is down', () => {
 });
 
 describe('guessing passwords', () => {
-  it('slows down after 10 failed sign-ins for one address with 429', async () => {
+  it('slows down after 10 failed sign-ins for one address from one client with 429, and keeps the counters in PostgreSQL', async () => {
     const target = (await createUser(server.deps.db, 'guessed')).email;
-    const actor = await Actor.anonymous(server.url);
-    for (let i = 0; i < 10; i++) expect((await actor.post('/api/session', { email: target, password: `guess-${i}` })).status).toBe(401);
-    const blocked = await actor.post('/api/session', { email: target, password: TEST_PASSWORD });
+    const guesser = await IpClient.open(server.url, loopbackIp());
+    for (let i = 0; i < 10; i++) expect((await guesser.signIn(target, `guess-${i}`)).status).toBe(401);
+    const blocked = await guesser.signIn(target, TEST_PASSWORD);
     expect(blocked.status).toBe(429);
     expect(blocked.body.error.code).toBe('TOO_MANY_ATTEMPTS');
+    // One row per (address, IP) and one per IP, keyed by sha256: no typed address kept in clear.
+    const rows = await server.deps.db('sign_in_limits').whereNotNull('locked_until').where('updated_at', '>', new Date(Date.now() - 60_000));
+    expect(rows.length).toBeGreaterThanOrEqual(1);
+    for (const r of rows) expect(r.key).toMatch(/^[0-9a-f]{64}$/);
+  });
+});
+
+describe('sign-in limit rules', () => {
+  const rule = SIGN_IN_LIMITS.addressAndIp;
+  const t0 = new Date('2026-01-01T00:00:00Z');
+  const at = (ms: number) => new Date(t0.getTime() + ms);
+  const fresh: SignInCounter = { failures: 0, window_start: t0, locked_until: null, lockouts: 0, updated_at: t0 };
+
+  it('locks after maxFailures in the window, each further lock-out twice as long up to the cap', () => {
+    let c = fresh;
+    const locks: number[] = [];
+    let t = 0;
+    for (let round = 0; round < 6; round++) {
+      for (let i = 0; i < rule.maxFailures; i++) c = afterFailure(c, rule, at(++t));
+      expect(c.locked_until).not.toBeNull();
+      locks.push(c.locked_until!.getTime() - at(t).getTime());
+      t = c.locked_until!.getTime() - t0.getTime();
+    }
+    expect(locks).toEqual([1, 2, 4, 8, 15, 15].map((m) => m * 60_000));
+  });
+
+  it('forgets failures older than the window, and lock-out growth after a day without failures', () => {
+    let c = fresh;
+    for (let i = 0; i < rule.maxFailures - 1; i++) c = afterFailure(c, rule, at(i));
+    c = afterFailure(c, rule, at(rule.windowMs + 10));
+    expect(c.failures).toBe(1);
+    expect(c.locked_until).toBeNull();
+    const grown = { ...fresh, lockouts: 3, updated_at: t0 };
+    let d = grown;
+    for (let i = 0; i < rule.maxFailures; i++) d = afterFailure(d, rule, at(COUNTER_IDLE_MS + i));
+    expect(d.locked_until!.getTime() - at(COUNTER_IDLE_MS + rule.maxFailures - 1).getTime()).toBe(rule.lockMs);
+  });
+
+  it('counts a client by its IPv4 address, or its IPv6 /64 network', () => {
+    expect(clientKey('::ffff:192.0.2.7')).toBe('192.0.2.7');
+    expect(clientKey('192.0.2.7')).toBe('192.0.2.7');
+    expect(clientKey('2001:db8:1:2:aaaa::1')).toBe('2001:db8:1:2::/64');
+    expect(clientKey('2001:0db8:0001:0002:ffff:1:2:3')).toBe('2001:db8:1:2::/64');
+    expect(clientKey('2001:db8::1')).toBe('2001:db8:0:0::/64');
+    expect(clientKey('::1')).toBe('0:0:0:0::/64');
+    expect(clientKey(undefined)).toBe('unknown');
   });
 });
 

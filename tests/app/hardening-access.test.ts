@@ -1,6 +1,7 @@
 // Access hardening (issue 6): CSRF on every cookie-authenticated write (enumerated from the app's
 // routers), a removed member's session stops working at once, sign-in guessing gets 429 with
-// Retry-After and the real user gets back in after the window, tampered share links are refused, and
+// Retry-After per (address, client IP) and per client IP while the real user elsewhere still signs in,
+// tampered share links are refused, and
 // the security headers are on every page, HTML and API alike.
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -12,9 +13,10 @@ import { createApp } from '../../server/app.ts';
 import type { AppDeps } from '../../server/context.ts';
 import { upsertMembership } from '../../server/db/memberships.ts';
 import type { RunningServer } from '../../server/server.ts';
-import { SIGN_IN_MAX_FAILURES, SIGN_IN_WINDOW_MS } from '../../server/services/auth.ts';
+import { SIGN_IN_LIMITS, signInKeys } from '../../server/services/sign-in-limits.ts';
 import { listApiRoutes, type ApiRoute } from './access-table.ts';
-import { Actor, TEST_PASSWORD, createUser, createWorkspaceFixture, startTestServer, type WorkspaceFixture } from './fixtures.ts';
+import { Actor, TEST_PASSWORD, createUser, createWorkspaceFixture, startTestServer, uniqueEmail, type WorkspaceFixture } from './fixtures.ts';
+import { IpClient, loopbackIp } from './ip-client.ts';
 import { runFixture, shareFixture } from './runs-access.ts';
 
 const CLIENT_DIR = resolve('dist');
@@ -148,35 +150,114 @@ describe('sessions follow membership at once', () => {
   });
 });
 
-describe('sign-in rate limit', () => {
-  it('answers 429 with Retry-After after repeated failures, and lets the real user in once the window has passed', async () => {
+describe('sign-in limits', () => {
+  const { addressAndIp, ip: perIp } = SIGN_IN_LIMITS;
+
+  it('lock out one client for one address with 429 and Retry-After; the real user elsewhere still signs in; the lock ends and grows', async () => {
     let now = Date.now();
     const app = await appWith({ clock: () => new Date(now) });
     try {
       const target = (await createUser(server.deps.db, 'guarded')).email;
-      const guesser = await Actor.anonymous(app.url);
-      for (let i = 0; i < SIGN_IN_MAX_FAILURES; i++) expect((await guesser.post('/api/session', { email: target, password: `guess-${i}-x` })).status).toBe(401);
-      const blocked = await guesser.post('/api/session', { email: target.toUpperCase(), password: 'one-more-guess' });
+      const guesser = await IpClient.open(app.url, loopbackIp());
+      for (let i = 0; i < addressAndIp.maxFailures; i++) expect((await guesser.signIn(target, `guess-${i}-x`)).status).toBe(401);
+      // Locked: even the right password is not tried from there (any letter case of the address).
+      const blocked = await guesser.signIn(target.toUpperCase(), TEST_PASSWORD);
       expect(blocked.status).toBe(429);
       expect(blocked.body.error.code).toBe('TOO_MANY_ATTEMPTS');
-      // RFC 9110 10.2.3: Retry-After in seconds; the window is 15 minutes from the first failure.
-      const retryAfter = Number(blocked.headers.get('retry-after'));
-      expect(retryAfter).toBeGreaterThan(0);
-      expect(retryAfter).toBeLessThanOrEqual(SIGN_IN_WINDOW_MS / 1000);
-      // The real user is held off too while the window lasts (the right password is not tried)...
-      const realUser = await Actor.anonymous(app.url);
-      expect((await realUser.post('/api/session', { email: target, password: TEST_PASSWORD })).status).toBe(429);
-      // ...another address is not affected...
-      const other = (await createUser(server.deps.db, 'neighbour')).email;
-      expect((await realUser.post('/api/session', { email: other, password: TEST_PASSWORD })).status).toBe(200);
-      // ...and after Retry-After seconds the real user signs in.
-      now += retryAfter * 1000;
-      const back = await Actor.anonymous(app.url);
-      const ok = await back.post('/api/session', { email: target, password: TEST_PASSWORD });
+      // RFC 9110 10.2.3: Retry-After in seconds; the first lock-out lasts lockMs.
+      expect(Number(blocked.headers['retry-after'])).toBe(addressAndIp.lockMs / 1000);
+      // The real user on another address (network) is not locked out...
+      const realUser = await IpClient.open(app.url, loopbackIp());
+      const ok = await realUser.signIn(target, TEST_PASSWORD);
       expect(ok.status).toBe(200);
       expect(ok.body.user.email).toBe(target);
+      // ...and the guesser's client can still sign in to another account (the per-IP limit is looser).
+      const other = (await createUser(server.deps.db, 'neighbour')).email;
+      expect((await (await IpClient.open(app.url, guesser.ip)).signIn(other, TEST_PASSWORD)).status).toBe(200);
+
+      // Half a lock-out later still locked, with the rest of the time in Retry-After.
+      now += addressAndIp.lockMs / 2;
+      const half = await guesser.signIn(target, TEST_PASSWORD);
+      expect(half.status).toBe(429);
+      expect(Number(half.headers['retry-after'])).toBe(addressAndIp.lockMs / 2000);
+      // Once it has passed, more guesses count again, and the next lock-out is twice as long.
+      now += addressAndIp.lockMs / 2;
+      for (let i = 0; i < addressAndIp.maxFailures; i++) expect((await guesser.signIn(target, `again-${i}-x`)).status).toBe(401);
+      const second = await guesser.signIn(target, TEST_PASSWORD);
+      expect(second.status).toBe(429);
+      expect(Number(second.headers['retry-after'])).toBe((2 * addressAndIp.lockMs) / 1000);
+      // After it, the right password from that same client signs in.
+      now += 2 * addressAndIp.lockMs;
+      expect((await guesser.signIn(target, TEST_PASSWORD)).status).toBe(200);
     } finally {
       await app.close();
+    }
+  });
+
+  it('lock-out times are settings: a one-second lock-out ends in real time', async () => {
+    const short = { ...SIGN_IN_LIMITS, addressAndIp: { maxFailures: 3, windowMs: 60_000, lockMs: 1_000, maxLockMs: 1_000 } };
+    const app = await appWith({ config: { ...server.deps.config, signInLimits: short } });
+    try {
+      const target = (await createUser(server.deps.db, 'short-lock')).email;
+      const client = await IpClient.open(app.url, loopbackIp());
+      for (let i = 0; i < 3; i++) expect((await client.signIn(target, `guess-${i}-x`)).status).toBe(401);
+      const blocked = await client.signIn(target, TEST_PASSWORD);
+      expect(blocked.status).toBe(429);
+      expect(blocked.headers['retry-after']).toBe('1');
+      await new Promise((r) => setTimeout(r, 1_100));
+      expect((await client.signIn(target, TEST_PASSWORD)).status).toBe(200);
+    } finally {
+      await app.close();
+    }
+  });
+
+  it('lock out a client that tries many addresses, not the real user on another network', async () => {
+    let now = Date.now();
+    const app = await appWith({ clock: () => new Date(now) });
+    try {
+      const target = (await createUser(server.deps.db, 'sprayed')).email;
+      const sprayer = await IpClient.open(app.url, loopbackIp());
+      // Each made-up address fails once: no (address, IP) limit is reached, the per-IP one is.
+      for (let i = 0; i < perIp.maxFailures; i++) expect((await sprayer.signIn(uniqueEmail(`spray${i}`), 'guess-x')).status).toBe(401);
+      const blocked = await sprayer.signIn(target, TEST_PASSWORD);
+      expect(blocked.status).toBe(429);
+      expect(blocked.body.error.code).toBe('TOO_MANY_ATTEMPTS');
+      expect(Number(blocked.headers['retry-after'])).toBe(perIp.lockMs / 1000);
+      expect((await sprayer.signIn(uniqueEmail('fresh'), 'guess-x')).status).toBe(429);
+      expect((await (await IpClient.open(app.url, loopbackIp())).signIn(target, TEST_PASSWORD)).status).toBe(200);
+      now += perIp.lockMs;
+      expect((await sprayer.signIn(target, TEST_PASSWORD)).status).toBe(200);
+    } finally {
+      await app.close();
+    }
+  });
+
+  it('count by the connection’s address: X-Forwarded-For is ignored while trust proxy is off (the default)', async () => {
+    expect(server.deps.config.trustProxy).toBe(false);
+    const target = (await createUser(server.deps.db, 'forwarded')).email;
+    const client = await IpClient.open(server.url, loopbackIp());
+    for (let i = 0; i < addressAndIp.maxFailures; i++) {
+      expect((await client.signIn(target, `guess-${i}-x`, { 'x-forwarded-for': `203.0.113.${i + 1}` })).status).toBe(401);
+    }
+    expect((await client.signIn(target, TEST_PASSWORD, { 'x-forwarded-for': '198.51.100.7' })).status).toBe(429);
+  });
+
+  it('are shared through PostgreSQL: a second app process on the database sees the lock-out', async () => {
+    const target = (await createUser(server.deps.db, 'shared')).email;
+    const ip = loopbackIp();
+    const a = await IpClient.open(server.url, ip);
+    for (let i = 0; i < addressAndIp.maxFailures; i++) expect((await a.signIn(target, `guess-${i}-x`)).status).toBe(401);
+    // Another app (own pool, own memory) on the same database, as a second server process would be.
+    const other = await appWith({});
+    try {
+      const client = await IpClient.open(other.url, ip);
+      expect((await client.signIn(target, TEST_PASSWORD)).status).toBe(429);
+      // The lock-out is the rows, nothing in memory: without them the right password gets in.
+      const keys = signInKeys(target, ip);
+      expect(await server.deps.db('sign_in_limits').whereIn('key', [keys.addressAndIp, keys.ip]).delete()).toBe(2);
+      expect((await client.signIn(target, TEST_PASSWORD)).status).toBe(200);
+    } finally {
+      await other.close();
     }
   });
 });

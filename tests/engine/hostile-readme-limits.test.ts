@@ -4,7 +4,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_ARCHIVE_LIMITS } from '../../jobs/engine/archive.ts';
 import { runsConfigFromEnv } from '../../jobs/runs/runtime.ts';
-import { SIGN_IN_MAX_FAILURES, SIGN_IN_WINDOW_MS } from '../../server/services/auth.ts';
+import { SIGN_IN_LIMITS, type LimitRule } from '../../server/services/sign-in-limits.ts';
 import { createShareBodySchema } from '../../shared/api/runs.ts';
 import { PREFLIGHT_CONFIG } from '../../shared/findings.ts';
 import { MAX_COPIES, MAX_DPI, MAX_TRIM_MM, MIN_DPI, parseRecipe } from '../../shared/recipe.ts';
@@ -42,9 +42,15 @@ describe('README limits match the code', () => {
   it('request, sign-in and share-link limits', () => {
     const json = /^(\d+) KB$/.exec(row('JSON request body'))![1]!;
     expect(readFileSync('server/app.ts', 'utf8')).toContain(`express.json({ limit: '${json}kb' })`);
-    expect(row('failed sign-ins')).toBe(`${SIGN_IN_MAX_FAILURES} per address in ${SIGN_IN_WINDOW_MS / 60_000} minutes`);
+    const minutes = (ms: number) => `${ms / 60_000} minute${ms === 60_000 ? '' : 's'}`;
+    const rule = (r: LimitRule) => `${r.maxFailures} in ${minutes(r.windowMs)}, then locked ${minutes(r.lockMs)}, doubling with each lock-out up to ${minutes(r.maxLockMs)}`;
+    expect(row('failed sign-ins, one address from one IP')).toBe(rule(SIGN_IN_LIMITS.addressAndIp));
+    expect(row('failed sign-ins from one IP, any addresses')).toBe(rule(SIGN_IN_LIMITS.ip));
+    expect(section).toContain('`BLEEDWRIGHT_TRUST_PROXY=1` (off by default)');
+    expect(readFileSync('server/main.ts', 'utf8')).toContain("trustProxy: process.env.BLEEDWRIGHT_TRUST_PROXY === '1'");
     const hours = /^1 to (\d+) hours$/.exec(row('share links'))![1]!;
     expect(createShareBodySchema.safeParse({ expiresInHours: Number(hours) }).success).toBe(true);
     expect(createShareBodySchema.safeParse({ expiresInHours: Number(hours) + 1 }).success).toBe(false);
   });
+
 });
