@@ -7,6 +7,7 @@ import { runsConfigFromEnv } from '../../jobs/runs/runtime.ts';
 import { SIGN_IN_LIMITS, type LimitRule } from '../../server/services/sign-in-limits.ts';
 import { createShareBodySchema } from '../../shared/api/runs.ts';
 import { PREFLIGHT_CONFIG } from '../../shared/findings.ts';
+import { FULL_LOAD, PEAK_RSS_BOUND_MB } from '../load/config.ts';
 import { MAX_COPIES, MAX_DPI, MAX_TRIM_MM, MIN_DPI, parseRecipe } from '../../shared/recipe.ts';
 
 const readme = readFileSync('README.md', 'utf8');
@@ -53,4 +54,16 @@ describe('README limits match the code', () => {
     expect(createShareBodySchema.safeParse({ expiresInHours: Number(hours) + 1 }).success).toBe(false);
   });
 
+  it('load figures: the size npm test runs, and a measured peak under the bound the test holds', () => {
+    const load = section.slice(section.indexOf('**Load**'));
+    const zipMiB = Number(/(\d+) uploads of ([\d.]+) MiB zips/.exec(load)?.[2]);
+    expect(load).toMatch(new RegExp(`\\b${FULL_LOAD.uploads} uploads of [\\d.]+ MiB zips`));
+    expect(zipMiB).toBeGreaterThanOrEqual(FULL_LOAD.zipMegabytes);
+    expect(load).toContain(`${FULL_LOAD.runs} runs started at once (${FULL_LOAD.cardsPerZip} cards each at ${FULL_LOAD.dpi} DPI)`);
+    expect(load).toContain(`fails at ${PEAK_RSS_BOUND_MB} MB or more`);
+    const peak = Number(/peaked at (\d+) MB/.exec(load)?.[1]);
+    expect(peak).toBeGreaterThan(0);
+    expect(peak).toBeLessThan(PEAK_RSS_BOUND_MB);
+    expect(load).toContain('`npm test`');
+  });
 });

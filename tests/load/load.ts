@@ -30,9 +30,14 @@ export type LoadOptions = {
 };
 
 export type LoadResult = {
-  uploads: { count: number; zipBytes: number; seconds: number; statuses: number[] };
+  uploads: { count: number; zipBytes: number; seconds: number; statuses: number[]; artSets: number };
   runs: { count: number; seconds: number; states: string[]; cards: number[] };
-  server: { peakRssMb: number; sampledMaxRssMb: number; baselineRssMb: number };
+  /**
+   * Server process memory in MB. `hwmMb` is the kernel's high-water mark (VmHWM); the kernel keeps RSS
+   * counts per thread and folds them in now and then, so a sample can pass it by a few MB: `peakRssMb`
+   * is the larger of the two.
+   */
+  server: { peakRssMb: number; hwmMb: number; sampledMaxRssMb: number; baselineRssMb: number };
 };
 
 async function freePort(): Promise<number> {
@@ -53,17 +58,29 @@ function memory(pid: number): Promise<{ rss: number; hwm: number }> {
   });
 }
 
-/** A zip of `cards` noise PNGs adding up to about `megabytes` (8-bit RGB noise does not compress). */
-async function noiseZip(file: string, megabytes: number, cards: number): Promise<void> {
+/**
+ * `cards` noise PNGs adding up to at least `megabytes` MiB (8-bit RGB noise does not compress), made once
+ * and put in every zip: encoding noise is the slow part, and the server's work per zip is the same.
+ */
+async function noiseCards(megabytes: number, cards: number): Promise<Buffer[]> {
   const perCard = (megabytes * 1024 * 1024) / cards;
-  // Portrait art at the poker proportions (5:7), sized so the PNG is about perCard bytes.
-  const h = Math.round(Math.sqrt((perCard / 3) * 1.4));
-  const w = Math.round(h / 1.4);
-  const zip = new yazl.ZipFile();
+  // Portrait art at the poker proportions (5:7), sized so the raw pixels alone are perCard bytes.
+  const w = Math.ceil(Math.sqrt(perCard / 3 / 1.4));
+  const h = Math.ceil(w * 1.4);
+  const out: Buffer[] = [];
   for (let i = 0; i < cards; i++) {
-    const png = await sharp(randomBytes(w * h * 3), { raw: { width: w, height: h, channels: 3 } }).png({ compressionLevel: 1 }).toBuffer();
-    zip.addBuffer(png, `card-${String(i + 1).padStart(2, '0')}.png`, { compress: false });
+    out.push(await sharp(randomBytes(w * h * 3), { raw: { width: w, height: h, channels: 3 } }).png({ compressionLevel: 1 }).toBuffer());
   }
+  return out;
+}
+
+/**
+ * A zip of the cards stored (not deflated) under names of their own: every zip has other bytes, so
+ * uploads are not deduplicated, and other card names, so no run takes another run's cached renders.
+ */
+async function cardZip(file: string, cards: Buffer[], label: string): Promise<void> {
+  const zip = new yazl.ZipFile();
+  cards.forEach((png, i) => zip.addBuffer(png, `${label}-card-${String(i + 1).padStart(2, '0')}.png`, { compress: false }));
   zip.end();
   await new Promise<void>((resolve, reject) => zip.outputStream.pipe(createWriteStream(file)).on('close', () => resolve()).on('error', reject));
 }
@@ -121,13 +138,15 @@ export async function runLoad(opts: LoadOptions): Promise<LoadResult> {
   let sampler: NodeJS.Timeout | null = null;
   try {
     log(`making ${opts.uploads} zips of ${opts.zipMegabytes} MB`);
+    const cards = await noiseCards(opts.zipMegabytes, opts.cardsPerZip);
     const zips: string[] = [];
     for (let i = 0; i < opts.uploads; i++) {
-      const file = path.join(work, `load-${String(i + 1).padStart(2, '0')}.zip`);
-      await noiseZip(file, opts.zipMegabytes, opts.cardsPerZip);
+      const label = `set${String(i + 1).padStart(2, '0')}`;
+      const file = path.join(work, `${label}.zip`);
+      await cardZip(file, cards, label);
       zips.push(file);
     }
-    const zipBytes = (await stat(zips[0]!)).size;
+    const zipBytes = Math.min(...(await Promise.all(zips.map(async (z) => (await stat(z)).size))));
 
     const started = await startServerProcess({ databaseUrl: opts.databaseUrl, dataDir: path.join(work, 'data'), bossSchema });
     child = started.child;
@@ -168,9 +187,14 @@ export async function runLoad(opts: LoadOptions): Promise<LoadResult> {
     const runSeconds = (performance.now() - t1) / 1000;
     const final = await memory(pid);
     return {
-      uploads: { count: uploaded.length, zipBytes, seconds: uploadSeconds, statuses: uploaded.map((u) => u.status) },
+      uploads: { count: uploaded.length, zipBytes, seconds: uploadSeconds, statuses: uploaded.map((u) => u.status), artSets: new Set(uploaded.map((u) => u.id).filter(Boolean)).size },
       runs: { count: runIds.length, seconds: runSeconds, states: runs.map((r) => r.state), cards: runs.map((r) => r.progress.done) },
-      server: { peakRssMb: Math.round(final.hwm), sampledMaxRssMb: Math.round(Math.max(sampledMax, final.rss)), baselineRssMb: Math.round(baseline.rss) },
+      server: {
+        peakRssMb: Math.round(Math.max(final.hwm, sampledMax, final.rss)),
+        hwmMb: Math.round(final.hwm),
+        sampledMaxRssMb: Math.round(Math.max(sampledMax, final.rss)),
+        baselineRssMb: Math.round(baseline.rss),
+      },
     };
   } finally {
     if (sampler) clearInterval(sampler);
