@@ -92,13 +92,15 @@ function rgbToHex(rgb: readonly number[]): string {
   return `#${rgb.map((v) => v.toString(16).padStart(2, '0')).join('')}`;
 }
 
-// PNG settings chosen on purpose (measured with `npm run bench` on 825 x 1125 painted card art, sharp's
-// zlib-ng): adaptive filtering picks the best filter per row and halves the file against no filtering
-// (0.95 MB against 1.7 MB); compression level 3 then costs about 60 ms of CPU per card against 105 ms at
-// level 6 for files about 1% larger, and level 9 takes five times as long for 10% less. No palette and
-// no interlacing, so the file stays 8-bit RGB colour type 2, non-interlaced, whose IDAT data the PDF
-// writer copies as-is.
-export const PNG_OPTIONS = { compressionLevel: 3, adaptiveFiltering: true, palette: false, progressive: false } as const;
+// PNG settings chosen on purpose (measured on the 200 bench cards, 825 x 1125 painted card art with a
+// frame-coloured bleed, sharp 0.35 / zlib-ng, CPU of the encode alone): adaptive filtering picks the
+// best filter per row and halves the file against no filtering (0.93 MB against 1.7 MB). Compression
+// level 4 is the cheapest level within 10% of the ImageMagick pipeline's files (932.9 KB a card,
+// 1.091 x its 855.5 KB): level 3 is 942.9 KB (1.102 x) for 68 ms against 82 ms, levels 5 and 6 save
+// 0.1% for 85-87 ms, and level 7 (zlib-ng's lazy matching) reaches 850 KB but takes 144 ms. No palette
+// and no interlacing, so the file stays 8-bit RGB colour type 2, non-interlaced, whose IDAT data the
+// PDF writer copies as-is.
+export const PNG_OPTIONS = { compressionLevel: 4, adaptiveFiltering: true, palette: false, progressive: false } as const;
 
 export async function conformCard(opts: {
   input: Buffer;
@@ -152,8 +154,9 @@ export async function conformCard(opts: {
     return reject([decodeFailure(err)], sourcePx, format);
   }
   const sha256 = createHash('sha256').update(`${decoded.w}x${decoded.h}:`).update(decoded.data).digest('hex');
+  // Art without an alpha channel (most of it) is opaque by definition: no need to look at every pixel.
   let hadAlpha = false;
-  for (let i = 3; i < decoded.data.length; i += 4) {
+  for (let i = 3; meta.hasAlpha !== false && i < decoded.data.length; i += 4) {
     if (decoded.data[i]! < 255) {
       hadAlpha = true;
       break;

@@ -54,7 +54,7 @@ export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: R
 
 // Bump when conform makes different pixels or findings for the same input and recipe, so renders
 // cached by an older engine are not reused.
-const RENDER_VERSION = 2;
+const RENDER_VERSION = 3;
 
 /**
  * Cache key of one render: the source bytes, its name (turn rules and the extension check read it),
