@@ -2,11 +2,13 @@
 // Exit codes: 0 every card produced; 1 some cards skipped (the report says why); 2 unusable input
 // (bad recipe, unreadable archive, wrong arguments) with one line on stderr; 3 an internal failure.
 import { readFile } from 'node:fs/promises';
+import { availableParallelism } from 'node:os';
 import { Command, CommanderError } from 'commander';
 import cliProgress from 'cli-progress';
+import sharp from 'sharp';
 import { BleedwrightError } from '../shared/errors.ts';
 import { exampleRecipe, parseRecipe, type Recipe } from '../shared/recipe.ts';
-import { checkArtSet, runEngine, type Progress } from '../jobs/engine/run.ts';
+import { CARDS_IN_FLIGHT, checkArtSet, runEngine, type Progress } from '../jobs/engine/run.ts';
 import { formatFindingsTable, formatRunSummary } from './format.ts';
 
 class ExitError extends Error {
@@ -112,6 +114,10 @@ export function buildProgram(): Command {
 }
 
 export async function main(argv: string[]): Promise<number> {
+  // Every image is read and written once: libvips's operation cache would only hold memory. Cards in
+  // flight share the cores, so each gets an equal share of libvips threads (1 on a small machine).
+  sharp.cache(false);
+  sharp.concurrency(Math.max(1, Math.round(availableParallelism() / CARDS_IN_FLIGHT)));
   try {
     await buildProgram().parseAsync(argv, { from: 'user' });
     return typeof process.exitCode === 'number' ? process.exitCode : 0;

@@ -2,6 +2,7 @@
 // conformCard per card and the assemble job calls assembleOutputs; the CLI calls runEngine.
 import { createHash, randomBytes } from 'node:crypto';
 import { access, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
 import { BleedwrightError } from '../../shared/errors.ts';
@@ -15,8 +16,13 @@ import type { RunReport } from './report.ts';
 
 export { assembleOutputs, writeBundle, type Progress, type RenderedCard } from './assemble.ts';
 
-/** Cards conformed at once: two keeps both cores of a small machine busy without doubling memory. */
-export const CARDS_IN_FLIGHT = 2;
+/**
+ * Cards conformed at once: one more than the cores (at most 4 cores' worth, as each card holds its
+ * decoded pixels in memory). Each card's libvips work runs on one thread of the libuv pool, but its zip
+ * read, hashing and callbacks run on the single JavaScript thread; with only one card per core, a core
+ * sits idle whenever two cards wait for that thread at the same time.
+ */
+export const CARDS_IN_FLIGHT = Math.min(4, availableParallelism()) + 1;
 
 export type RunResult = {
   report: RunReport;

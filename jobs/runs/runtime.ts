@@ -36,10 +36,12 @@ export function runsConfigFromEnv(env: NodeJS.ProcessEnv = process.env): RunsCon
     if (!Number.isFinite(n) || n < 0) throw new Error(`${name} must be a number, got "${value}"`);
     return n;
   };
-  // Defaults follow the machine: one render per core (at most 4, as each holds a card's pixels in memory),
-  // and libvips threads split among them so renders at once do not fight over the cores.
+  // Defaults follow the machine, as the CLI's CARDS_IN_FLIGHT: one render more than the cores (counting at
+  // most 4, as each holds a card's pixels in memory), so the cores stay busy while a render waits for the
+  // JavaScript thread (zip read, hashing, database calls), and libvips threads split among them so
+  // renders at once do not fight over the cores.
   const cores = Math.max(1, availableParallelism());
-  const workerConcurrency = Math.max(1, Math.floor(num('BLEEDWRIGHT_WORKER_CONCURRENCY', Math.min(4, cores))));
+  const workerConcurrency = Math.max(1, Math.floor(num('BLEEDWRIGHT_WORKER_CONCURRENCY', Math.min(4, cores) + 1)));
   return {
     workerConcurrency,
     sharpThreads: Math.floor(num('BLEEDWRIGHT_SHARP_THREADS', Math.max(1, Math.round(cores / workerConcurrency)))),
@@ -71,6 +73,8 @@ let installed: RunsRuntime | null = null;
 export function installRunsRuntime(runtime: RunsRuntime): void {
   installed = runtime;
   if (runtime.config.sharpThreads > 0) sharp.concurrency(runtime.config.sharpThreads);
+  // Every image is used once: libvips's operation cache only holds memory (and costs a little CPU).
+  sharp.cache(false);
 }
 
 export function runsRuntime(): RunsRuntime {
