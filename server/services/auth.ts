@@ -2,7 +2,7 @@ import type { Knex } from 'knex';
 import { AppError } from '../errors.ts';
 import { dummyVerify, verifyPassword } from '../passwords.ts';
 import { findUserByEmail, toPublicUser, type PublicUser } from '../db/users.ts';
-import { assertSignInAllowed, recordSignInFailure, recordSignInSuccess, SIGN_IN_LIMITS, type SignInLimits } from './sign-in-limits.ts';
+import { beginSignInAttempt, signInSucceeded, type SignInLimits } from './sign-in-limits.ts';
 
 export const badCredentials = () =>
   new AppError(401, 'BAD_CREDENTIALS', 'That e-mail address and password do not match an account.');
@@ -22,13 +22,11 @@ export interface SignInAttempt {
  */
 export async function authenticate(db: Knex, attempt: SignInAttempt): Promise<PublicUser> {
   const { email, password, ip, now } = attempt;
-  await assertSignInAllowed(db, email, ip, now);
+  // Counted before the password is checked; a right password takes the count back.
+  const ticket = await beginSignInAttempt(db, email, ip, now, attempt.limits);
   const user = await findUserByEmail(db, email);
   const ok = user ? await verifyPassword(user.password_hash, password) : await dummyVerify(password);
-  if (!user || !ok) {
-    await recordSignInFailure(db, email, ip, now, attempt.limits ?? SIGN_IN_LIMITS);
-    throw badCredentials();
-  }
-  await recordSignInSuccess(db, email, ip);
+  if (!user || !ok) throw badCredentials();
+  await signInSucceeded(db, ticket, now);
   return toPublicUser(user);
 }

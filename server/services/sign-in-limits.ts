@@ -1,8 +1,12 @@
 // Sign-in guessing limits (issue 6). Failures are counted per (address, client IP), so a guesser
 // elsewhere cannot lock the real user out, and per client IP across all addresses, so one client cannot
 // try many addresses either. Reaching a limit locks that key for a short time that doubles with each
-// further lock-out (up to a cap); a successful sign-in clears its (address, IP) counter. Counters live in
-// PostgreSQL (`sign_in_limits`) so every server process on the database shares them.
+// further lock-out (up to a cap). Counters live in PostgreSQL (`sign_in_limits`) so every server process
+// on the database shares them.
+//
+// Each attempt is counted *before* its password is checked (under a row lock), and a right password
+// takes its count back: so many guesses sent at once cannot all slip past the check before the first of
+// them is counted.
 //
 // The client IP is Express's `req.ip`: the socket's address unless `trust proxy` is set
 // (BLEEDWRIGHT_TRUST_PROXY=1, one proxy hop), so a client cannot pick its own IP with a header.
@@ -10,7 +14,7 @@ import { createHash } from 'node:crypto';
 import { isIPv4, isIPv6 } from 'node:net';
 import type { Knex } from 'knex';
 import { AppError } from '../errors.ts';
-import { deleteCounter, findCounters, pruneCounters, updateCounter, type SignInCounter } from '../db/sign-in-limits.ts';
+import { deleteCounter, pruneCounters, updateCounters, type SignInCounter } from '../db/sign-in-limits.ts';
 
 export interface LimitRule {
   /** Failures within `windowMs` that start a lock-out. */
@@ -61,8 +65,8 @@ export const signInKeys = (email: string, ip: string | undefined) => {
   return { addressAndIp: hash(`address-ip\n${email.toLowerCase()}\n${client}`), ip: hash(`ip\n${client}`) };
 };
 
-/** A counter after one more failure at `now` under `rule`. */
-export function afterFailure(row: SignInCounter, rule: LimitRule, now: Date): SignInCounter {
+/** A counter after one more attempt at `now` under `rule` (counted as a failure until it succeeds). */
+export function afterAttempt(row: SignInCounter, rule: LimitRule, now: Date): SignInCounter {
   const t = now.getTime();
   const idle = t - row.updated_at.getTime() >= COUNTER_IDLE_MS;
   const lockouts = idle ? 0 : row.lockouts;
@@ -75,17 +79,52 @@ export function afterFailure(row: SignInCounter, rule: LimitRule, now: Date): Si
   return { failures: 0, window_start: now, locked_until: new Date(t + lockMs), lockouts: lockouts + 1, updated_at: now };
 }
 
-/** 429 with Retry-After (seconds) while the (address, IP) or the IP is locked out. */
-export async function assertSignInAllowed(db: Knex, email: string, ip: string | undefined, now: Date): Promise<void> {
-  const k = signInKeys(email, ip);
-  const rows = await findCounters(db, [k.addressAndIp, k.ip]);
-  let waitMs = 0;
-  for (const r of rows) if (r.locked_until) waitMs = Math.max(waitMs, r.locked_until.getTime() - now.getTime());
-  if (waitMs <= 0) return;
+/**
+ * The counter `now` holds once a successful attempt takes its count back; `before` and `after` are the
+ * counter around that attempt. An attempt that set a lock-out undoes it (every attempt since was refused,
+ * so `before` is still the truth); otherwise one failure less in the same window.
+ */
+export function takeBack(now: SignInCounter, before: SignInCounter, after: SignInCounter): SignInCounter {
+  const setLock = after.locked_until !== null && after.locked_until.getTime() !== before.locked_until?.getTime();
+  if (setLock && now.locked_until?.getTime() === after.locked_until!.getTime()) return before;
+  if (!setLock && now.window_start.getTime() === after.window_start.getTime() && now.failures > 0) return { ...now, failures: now.failures - 1 };
+  return now;
+}
+
+const lockLeft = (row: SignInCounter, now: Date) => (row.locked_until ? row.locked_until.getTime() - now.getTime() : 0);
+
+export interface SignInTicket {
+  keys: ReturnType<typeof signInKeys>;
+  ipBefore: SignInCounter;
+  ipAfter: SignInCounter;
+}
+
+/**
+ * Counts a sign-in attempt against the (address, IP) and the IP limits, or answers 429 with Retry-After
+ * (seconds) while either is locked out. Returns what `signInSucceeded` needs to take the count back.
+ */
+export async function beginSignInAttempt(db: Knex, email: string, ip: string | undefined, now: Date, limits: SignInLimits = SIGN_IN_LIMITS): Promise<SignInTicket> {
+  const keys = signInKeys(email, ip);
+  let refused: { waitMs: number; byIp: boolean } | null = null;
+  let ticket: SignInTicket | null = null;
+  await updateCounters(db, [keys.addressAndIp, keys.ip], now, ([address, client]) => {
+    const waitMs = Math.max(lockLeft(address!, now), lockLeft(client!, now));
+    if (waitMs > 0) {
+      refused = { waitMs, byIp: lockLeft(client!, now) === waitMs };
+      return [address!, client!];
+    }
+    ticket = { keys, ipBefore: client!, ipAfter: afterAttempt(client!, limits.ip, now) };
+    return [afterAttempt(address!, limits.addressAndIp, now), ticket.ipAfter];
+  });
+  await pruneCounters(db, new Date(now.getTime() - COUNTER_IDLE_MS));
+  if (refused) throw tooManyAttempts(refused);
+  return ticket!;
+}
+
+function tooManyAttempts({ waitMs, byIp }: { waitMs: number; byIp: boolean }): AppError {
   const waitSeconds = Math.ceil(waitMs / 1000);
   const minutes = Math.ceil(waitSeconds / 60);
-  const byIp = rows.some((r) => r.key === k.ip && r.locked_until && r.locked_until.getTime() - now.getTime() === waitMs);
-  throw new AppError(
+  return new AppError(
     429,
     'TOO_MANY_ATTEMPTS',
     `Too many failed sign-ins ${byIp ? 'from this network' : 'for this address from this network'}; wait ${minutes} minute${minutes === 1 ? '' : 's'} and try again.`,
@@ -93,14 +132,8 @@ export async function assertSignInAllowed(db: Knex, email: string, ip: string | 
   );
 }
 
-export async function recordSignInFailure(db: Knex, email: string, ip: string | undefined, now: Date, limits: SignInLimits = SIGN_IN_LIMITS): Promise<void> {
-  const k = signInKeys(email, ip);
-  await updateCounter(db, k.addressAndIp, now, (row) => afterFailure(row, limits.addressAndIp, now));
-  await updateCounter(db, k.ip, now, (row) => afterFailure(row, limits.ip, now));
-  await pruneCounters(db, new Date(now.getTime() - COUNTER_IDLE_MS));
-}
-
-/** The right password from this client: its (address, IP) counter starts again; the IP counter stays. */
-export async function recordSignInSuccess(db: Knex, email: string, ip: string | undefined): Promise<void> {
-  await deleteCounter(db, signInKeys(email, ip).addressAndIp);
+/** The right password: the (address, IP) counter starts again, and the IP counter takes this attempt back. */
+export async function signInSucceeded(db: Knex, ticket: SignInTicket, now: Date): Promise<void> {
+  await deleteCounter(db, ticket.keys.addressAndIp);
+  await updateCounters(db, [ticket.keys.ip], now, ([row]) => [takeBack(row!, ticket.ipBefore, ticket.ipAfter)]);
 }

@@ -4,7 +4,7 @@ import { createServer } from 'node:http';
 import { createApp } from '../../server/app.ts';
 import type { RunningServer } from '../../server/server.ts';
 import type { SignInCounter } from '../../server/db/sign-in-limits.ts';
-import { COUNTER_IDLE_MS, SIGN_IN_LIMITS, afterFailure, clientKey } from '../../server/services/sign-in-limits.ts';
+import { COUNTER_IDLE_MS, SIGN_IN_LIMITS, afterAttempt, clientKey, takeBack } from '../../server/services/sign-in-limits.ts';
 import { Actor, TEST_PASSWORD, createUser, startTestServer } from './fixtures.ts';
 import { IpClient, loopbackIp } from './ip-client.ts';
 
@@ -148,7 +148,7 @@ describe('sign-in limit rules', () => {
     const locks: number[] = [];
     let t = 0;
     for (let round = 0; round < 6; round++) {
-      for (let i = 0; i < rule.maxFailures; i++) c = afterFailure(c, rule, at(++t));
+      for (let i = 0; i < rule.maxFailures; i++) c = afterAttempt(c, rule, at(++t));
       expect(c.locked_until).not.toBeNull();
       locks.push(c.locked_until!.getTime() - at(t).getTime());
       t = c.locked_until!.getTime() - t0.getTime();
@@ -158,14 +158,26 @@ describe('sign-in limit rules', () => {
 
   it('forgets failures older than the window, and lock-out growth after a day without failures', () => {
     let c = fresh;
-    for (let i = 0; i < rule.maxFailures - 1; i++) c = afterFailure(c, rule, at(i));
-    c = afterFailure(c, rule, at(rule.windowMs + 10));
+    for (let i = 0; i < rule.maxFailures - 1; i++) c = afterAttempt(c, rule, at(i));
+    c = afterAttempt(c, rule, at(rule.windowMs + 10));
     expect(c.failures).toBe(1);
     expect(c.locked_until).toBeNull();
     const grown = { ...fresh, lockouts: 3, updated_at: t0 };
     let d = grown;
-    for (let i = 0; i < rule.maxFailures; i++) d = afterFailure(d, rule, at(COUNTER_IDLE_MS + i));
+    for (let i = 0; i < rule.maxFailures; i++) d = afterAttempt(d, rule, at(COUNTER_IDLE_MS + i));
     expect(d.locked_until!.getTime() - at(COUNTER_IDLE_MS + rule.maxFailures - 1).getTime()).toBe(rule.lockMs);
+  });
+
+  it('a successful attempt takes its count back, and undoes the lock-out it set', () => {
+    const before = { ...fresh, failures: rule.maxFailures - 1 };
+    const locking = afterAttempt(before, rule, at(1));
+    expect(locking.locked_until).not.toBeNull();
+    expect(takeBack(locking, before, locking)).toEqual(before);
+    const counted = afterAttempt(fresh, rule, at(1));
+    expect(takeBack(afterAttempt(counted, rule, at(2)), fresh, counted).failures).toBe(1);
+    // A new window since: nothing of this attempt is left to take back.
+    const later = afterAttempt(counted, rule, at(rule.windowMs + 5));
+    expect(takeBack(later, fresh, counted)).toEqual(later);
   });
 
   it('counts a client by its IPv4 address, or its IPv6 /64 network', () => {

@@ -232,6 +232,33 @@ describe('sign-in limits', () => {
     }
   });
 
+  it('count guesses sent all at once: only the limit gets a password check, the rest 429', async () => {
+    const target = (await createUser(server.deps.db, 'burst')).email;
+    const ip = loopbackIp();
+    const clients = await Promise.all(Array.from({ length: 3 * addressAndIp.maxFailures }, () => IpClient.open(server.url, ip)));
+    const statuses = (await Promise.all(clients.map((c, i) => c.signIn(target, `burst-${i}-x`)))).map((r) => r.status);
+    expect(statuses.filter((s) => s === 401)).toHaveLength(addressAndIp.maxFailures);
+    expect(statuses.filter((s) => s === 429)).toHaveLength(2 * addressAndIp.maxFailures);
+  });
+
+  it('count only failures against a client: its successful sign-ins take their count back', async () => {
+    const tight = { ...SIGN_IN_LIMITS, ip: { ...perIp, maxFailures: 3 } };
+    const app = await appWith({ config: { ...server.deps.config, signInLimits: tight } });
+    try {
+      const user = (await createUser(server.deps.db, 'regular')).email;
+      const ip = loopbackIp();
+      const client = () => IpClient.open(app.url, ip);
+      for (let i = 0; i < 5; i++) expect((await (await client()).signIn(user, TEST_PASSWORD)).status).toBe(200);
+      for (let i = 0; i < 2; i++) expect((await (await client()).signIn(uniqueEmail('typo'), 'guess-x')).status).toBe(401);
+      // The third attempt reaches the limit as it is counted, but it is right: the lock-out it set is undone.
+      expect((await (await client()).signIn(user, TEST_PASSWORD)).status).toBe(200);
+      expect((await (await client()).signIn(uniqueEmail('typo'), 'guess-x')).status).toBe(401);
+      expect((await (await client()).signIn(user, TEST_PASSWORD)).status).toBe(429);
+    } finally {
+      await app.close();
+    }
+  });
+
   it('count by the connection’s address: X-Forwarded-For is ignored while trust proxy is off (the default)', async () => {
     expect(server.deps.config.trustProxy).toBe(false);
     const target = (await createUser(server.deps.db, 'forwarded')).email;
