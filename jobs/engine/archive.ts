@@ -4,6 +4,7 @@
 // ever extracted to disk; callers read one entry at a time into memory with its real size counted.
 import { lstat, readdir, readFile, stat } from 'node:fs/promises';
 import path from 'node:path';
+import { crc32 } from 'node:zlib';
 import { parse as parseCsv } from 'csv-parse/sync';
 import unzipper from 'unzipper';
 import { BleedwrightError } from '../../shared/errors.ts';
@@ -45,6 +46,8 @@ export type ArtSet = {
   manifest: ManifestRow[] | null;
   /** Internal readers; use readEntry(). */
   readers: Map<string, () => Promise<Buffer>>;
+  /** Internal; use entryFingerprint(). */
+  fingerprints: Map<string, () => Promise<string>>;
   limits: ArchiveLimits;
   bytesRead: { total: number };
 };
@@ -134,7 +137,7 @@ function formatBytes(n: number): string {
   return n >= 1024 * 1024 ? `${Math.round(n / (1024 * 1024))} MB` : `${Math.round(n / 1024)} KB`;
 }
 
-type RawEntry = { path: string; size: number; read: () => Promise<Buffer> };
+type RawEntry = { path: string; size: number; read: () => Promise<Buffer>; fingerprint: () => Promise<string> };
 
 async function listZip(file: string, limits: ArchiveLimits, bytesRead: { total: number }): Promise<{ raw: RawEntry[]; skipped: SkippedEntry[] }> {
   let dir: unzipper.CentralDirectory;
@@ -172,9 +175,12 @@ async function listZip(file: string, limits: ArchiveLimits, bytesRead: { total: 
       continue;
     }
     seen.add(name);
+    // What zip tools trust to tell one version of a file from another, read from the central directory.
+    const fingerprint = `zip crc32 ${f.crc32} size ${f.uncompressedSize} packed ${f.compressedSize} method ${f.compressionMethod}`;
     raw.push({
       path: name,
       size: f.uncompressedSize,
+      fingerprint: async () => fingerprint,
       read: async () => {
         try {
           return await readCounted(f.stream(), name, limits, bytesRead, f.compressedSize);
@@ -209,14 +215,20 @@ async function listFolder(root: string, limits: ArchiveLimits): Promise<{ raw: R
           skipped.push({ path: relPath, reason: 'an archive inside the art set; archives are not opened' });
           continue;
         }
+        const read = async () => {
+          if (info.size > limits.maxEntryBytes) {
+            throw new BleedwrightError('ARCHIVE_TOO_LARGE', `"${relPath}" is larger than ${formatBytes(limits.maxEntryBytes)}, the limit for one file`);
+          }
+          return readFile(full);
+        };
         raw.push({
           path: relPath,
           size: info.size,
-          read: async () => {
-            if (info.size > limits.maxEntryBytes) {
-              throw new BleedwrightError('ARCHIVE_TOO_LARGE', `"${relPath}" is larger than ${formatBytes(limits.maxEntryBytes)}, the limit for one file`);
-            }
-            return readFile(full);
+          read,
+          // A folder has no stored checksums: the same CRC-32 and size a zip would hold, from the bytes.
+          fingerprint: async () => {
+            const data = await read();
+            return `zip crc32 ${crc32(data)} size ${data.length}`;
           },
         });
       }
@@ -252,6 +264,7 @@ export async function openArtSet(source: string, limits: Partial<ArchiveLimits> 
   const root = commonTopFolder(usable.map((e) => e.path));
   const entries: ArtEntry[] = [];
   const readers = new Map<string, () => Promise<Buffer>>();
+  const fingerprints = new Map<string, () => Promise<string>>();
   for (const e of raw) {
     const rel = root && e.path.startsWith(`${root}/`) ? e.path.slice(root.length + 1) : e.path;
     const kind = classify(rel);
@@ -262,12 +275,13 @@ export async function openArtSet(source: string, limits: Partial<ArchiveLimits> 
     } else {
       entries.push({ path: rel, kind, size: e.size });
       readers.set(rel, e.read);
+      fingerprints.set(rel, e.fingerprint);
     }
   }
   if (!entries.some((e) => e.kind === 'image' || e.kind === 'back-candidate')) {
     throw new BleedwrightError('ARCHIVE_EMPTY', 'no card images (PNG, JPEG, WebP or TIFF) were found in the art set');
   }
-  const set: ArtSet = { source, type, root, entries, skipped, manifest: null, readers, limits: lim, bytesRead };
+  const set: ArtSet = { source, type, root, entries, skipped, manifest: null, readers, fingerprints, limits: lim, bytesRead };
   const manifestEntry = entries.find((e) => e.kind === 'manifest' && e.path.toLowerCase() === 'manifest.csv');
   if (manifestEntry) set.manifest = parseManifest((await readEntry(set, manifestEntry.path)).toString('utf8'), new Set(imagePaths(set)));
   return set;
@@ -283,6 +297,18 @@ export async function readEntry(set: ArtSet, entryPath: string): Promise<Buffer>
   const read = set.readers.get(entryPath);
   if (!read) throw new BleedwrightError('SOURCE_NOT_FOUND', `"${entryPath}" is not in the art set`);
   return read();
+}
+
+/**
+ * Identifies one entry's bytes without inflating them: for a zip, the CRC-32, sizes and method its
+ * central directory records; for a folder, the CRC-32 and size of the file (read once). Two different
+ * versions of a file with the same name get the same fingerprint only when their CRC-32s collide at
+ * equal sizes, which is the check zip tools themselves rely on (render cache keys, see renderCacheKey).
+ */
+export async function entryFingerprint(set: ArtSet, entryPath: string): Promise<string> {
+  const fingerprint = set.fingerprints.get(entryPath);
+  if (!fingerprint) throw new BleedwrightError('SOURCE_NOT_FOUND', `"${entryPath}" is not in the art set`);
+  return fingerprint();
 }
 
 /** Parses manifest.csv (columns file, copies, back, title); row numbers count the header as row 1. */

@@ -1,6 +1,6 @@
 // Assembly: from rendered cards to the deck's outputs (singles, combined PDF, sheets, proof, report,
 // bundle). The pg-boss assemble job and the CLI's runEngine both call assembleOutputs.
-import { copyFile, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { chmod, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import path from 'node:path';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
 import { BleedwrightError } from '../../shared/errors.ts';
@@ -9,11 +9,10 @@ import { FORMAT_EXT, folderOf, renderName, slugify, stemOf, uniqueNames } from '
 import { recipeGeometry, type Recipe } from '../../shared/recipe.ts';
 import type { SkippedEntry } from './archive.ts';
 import { encodeSingle, type CardInfo, type RejectedCard } from './conform.ts';
+import { linkOrCopy } from './file-io.ts';
 import { writeCombinedPdf, type PdfPage } from './pdf.ts';
 import { markDuplicates } from './preflight.ts';
-import { writeProof } from './proof.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
-import { writeImposedSheets } from './sheets.ts';
 import { writeZip } from './zip-writer.ts';
 
 export type Progress = { phase: 'cards' | 'pdf' | 'sheets' | 'proof' | 'report' | 'bundle'; done: number; total: number; current?: string };
@@ -81,6 +80,11 @@ export async function assembleOutputs(opts: {
   manifest: readonly ManifestRow[] | null;
   skippedFiles: readonly SkippedEntry[];
   onProgress?: (p: Progress) => void;
+  /**
+   * The card PNGs are files of a render cache that outlives this run. PNG singles are hard links to
+   * them, so those singles are made read-only: an edit saved in place would otherwise change the cache.
+   */
+  rendersShared?: boolean;
 }): Promise<RunReport> {
   const { recipe, outDir, cards, onProgress } = opts;
   const geo = recipeGeometry(recipe);
@@ -124,8 +128,9 @@ export async function assembleOutputs(opts: {
       const src = bySource.get(slot.source!)!;
       const target = inside(cardsDir, names[i]!);
       if (recipe.outputs.singles === 'png') {
-        await copyFile(src.pngPath!, `${target}.tmp`);
-        await rename(`${target}.tmp`, target);
+        // A PNG single is the rendered PNG byte for byte: link it instead of copying ~1 MB per card.
+        await linkOrCopy(src.pngPath!, target);
+        if (opts.rendersShared) await chmod(target, 0o444);
       } else {
         await writeAtomic(target, await encodeSingle(await readFile(src.pngPath!), recipe.outputs.singles, recipe.dpi));
       }
@@ -137,113 +142,130 @@ export async function assembleOutputs(opts: {
   const title = recipe.name;
   let pdfName: string | null = null;
   let pages = 0;
+  // The combined PDF is written while sheets, proof, report and the bundle's singles are made: it is
+  // mostly waiting on the disk, and the bundle needs it only for its own entry, after the singles.
+  let pdfTask: Promise<unknown> | null = null;
   if (recipe.outputs.pdf && fronts.length > 0) {
     onProgress?.({ phase: 'pdf', done: 0, total: 1 });
     const slug = slugify(recipe.name);
     pdfName = `${RESERVED_PDF_NAMES.has(slug) ? `${slug}-deck` : slug}.pdf`;
     const pdfPages: PdfPage[] = plan.slots.map((s) => (s.source ? { kind: 'card', pngPath: pngOf(s.source)! } : { kind: 'blank' }));
-    const written = await writeCombinedPdf({ pages: pdfPages, pagePt: geo.pagePt, bleedPt: geo.bleedPt, title, outPath: inside(outDir, pdfName) });
-    pages = written.pages;
-    onProgress?.({ phase: 'pdf', done: 1, total: 1 });
+    pages = pdfPages.length;
+    pdfTask = writeCombinedPdf({ pages: pdfPages, pagePt: geo.pagePt, bleedPt: geo.bleedPt, title, outPath: inside(outDir, pdfName) }).then(() =>
+      onProgress?.({ phase: 'pdf', done: 1, total: 1 }),
+    );
+    // Awaited below; this handler only keeps a failure that comes before then from being "unhandled".
+    pdfTask.catch(() => undefined);
   }
-
-  let sheetsName: string | null = null;
-  let sheetCount = 0;
-  if (recipe.outputs.sheets && plan.faces > 0) {
-    onProgress?.({ phase: 'sheets', done: 0, total: 1 });
-    // Faces in deck order with the back each one needs; common backs placed first/last are not faces.
-    const faceFronts: Array<string | null> = [];
-    const faceBacks: Array<string | null> = [];
-    const interleaved = recipe.back.placement === 'interleaved';
-    for (let i = 0; i < plan.slots.length; i++) {
-      const slot = plan.slots[i]!;
-      const isCommonBack = !interleaved && slot.kind === 'back' && !slot.padding && slot.copy === 0;
-      if (isCommonBack) continue;
-      faceFronts.push(pngOf(slot.source));
-      if (interleaved) {
-        faceBacks.push(pngOf(plan.slots[i + 1]?.source ?? null));
-        i++;
-      } else {
-        faceBacks.push(pngOf(commonBack));
+  try {
+    let sheetsName: string | null = null;
+    let sheetCount = 0;
+    if (recipe.outputs.sheets && plan.faces > 0) {
+      onProgress?.({ phase: 'sheets', done: 0, total: 1 });
+      // Faces in deck order with the back each one needs; common backs placed first/last are not faces.
+      const faceFronts: Array<string | null> = [];
+      const faceBacks: Array<string | null> = [];
+      const interleaved = recipe.back.placement === 'interleaved';
+      for (let i = 0; i < plan.slots.length; i++) {
+        const slot = plan.slots[i]!;
+        const isCommonBack = !interleaved && slot.kind === 'back' && !slot.padding && slot.copy === 0;
+        if (isCommonBack) continue;
+        faceFronts.push(pngOf(slot.source));
+        if (interleaved) {
+          faceBacks.push(pngOf(plan.slots[i + 1]?.source ?? null));
+          i++;
+        } else {
+          faceBacks.push(pngOf(commonBack));
+        }
       }
+      sheetsName = `sheets-${recipe.outputs.sheets.paper}.pdf`;
+      // Sheets and proof load the PDF library only when a recipe asks for them (it takes a while to load).
+      const { writeImposedSheets } = await import('./sheets.ts');
+      const written = await writeImposedSheets({
+        fronts: faceFronts,
+        backs: faceBacks,
+        paper: recipe.outputs.sheets.paper,
+        marks: recipe.outputs.sheets.marks,
+        trimIn: geo.trimIn,
+        bleedIn: geo.bleedIn,
+        title,
+        outPath: inside(outDir, sheetsName),
+      });
+      sheetCount = written.sheets;
+      onProgress?.({ phase: 'sheets', done: 1, total: 1 });
     }
-    sheetsName = `sheets-${recipe.outputs.sheets.paper}.pdf`;
-    const written = await writeImposedSheets({
-      fronts: faceFronts,
-      backs: faceBacks,
-      paper: recipe.outputs.sheets.paper,
-      marks: recipe.outputs.sheets.marks,
-      trimIn: geo.trimIn,
-      bleedIn: geo.bleedIn,
-      title,
-      outPath: inside(outDir, sheetsName),
-    });
-    sheetCount = written.sheets;
-    onProgress?.({ phase: 'sheets', done: 1, total: 1 });
+
+    const reportCards = cards.map((c) =>
+      reportCardOf(c, outputsBySource.get(c.source) ?? [], plan.slots.filter((s) => s.source === c.source && !s.padding && s.kind === c.role).length),
+    );
+
+    let proofName: string | null = null;
+    const proofCards = reportCards.filter((c) => c.state === 'done');
+    if (recipe.outputs.proof && proofCards.length > 0) {
+      onProgress?.({ phase: 'proof', done: 0, total: 1 });
+      proofName = 'proof.pdf';
+      const { writeProof } = await import('./proof.ts');
+      await writeProof({
+        cards: proofCards.map((c) => ({
+          pngPath: pngOf(c.source)!,
+          name: c.outputs[0]?.replace(/^cards\//, '') ?? c.source,
+          findings: c.findings.map((f) => ({ code: f.code, severity: f.severity })),
+        })),
+        trimIn: geo.trimIn,
+        bleedIn: geo.bleedIn,
+        safeIn: geo.safeIn,
+        title,
+        outPath: inside(outDir, proofName),
+      });
+      onProgress?.({ phase: 'proof', done: 1, total: 1 });
+    }
+
+    const report: RunReport = {
+      recipe,
+      source: path.basename(opts.source),
+      geometry: { pagePx: geo.pagePx, trimPx: geo.trimPx, dpi: geo.dpi, pagePt: geo.pagePt, trimBoxPt: geo.trimBoxPt, bleedPt: geo.bleedPt },
+      cards: reportCards,
+      skippedFiles: [...opts.skippedFiles],
+      outputs: { singles: [...outputsBySource.values()].reduce((n, l) => n + l.length, 0), pdf: pdfName, sheets: sheetsName, proof: proofName, bundle: 'bundle.zip' },
+      totals: {
+        cards: reportCards.filter((c) => c.role === 'front' && c.state === 'done').length,
+        cardsSkipped: reportCards.filter((c) => c.state === 'skipped').length,
+        faces: plan.faces,
+        pages,
+        paddingAdded: plan.paddingAdded,
+        sheets: sheetCount,
+        findingsByCode: countFindings(reportCards),
+      },
+    };
+    onProgress?.({ phase: 'report', done: 0, total: 1 });
+    await writeReports(report, inside(outDir, 'report.json'), inside(outDir, 'report.csv'));
+
+    onProgress?.({ phase: 'bundle', done: 0, total: 1 });
+    await writeBundle(
+      outDir,
+      [...[...outputsBySource.values()].flat(), ...[pdfName, sheetsName, proofName].filter((n): n is string => n !== null), 'report.json', 'report.csv'],
+      pdfName && pdfTask ? { [pdfName]: pdfTask } : {},
+    );
+    await pdfTask;
+    onProgress?.({ phase: 'bundle', done: 1, total: 1 });
+    return report;
+  } catch (err) {
+    // Not leaving the PDF writer running on a folder the caller is about to clean up.
+    await pdfTask?.catch(() => undefined);
+    throw err;
   }
-
-  const reportCards = cards.map((c) =>
-    reportCardOf(c, outputsBySource.get(c.source) ?? [], plan.slots.filter((s) => s.source === c.source && !s.padding && s.kind === c.role).length),
-  );
-
-  let proofName: string | null = null;
-  const proofCards = reportCards.filter((c) => c.state === 'done');
-  if (recipe.outputs.proof && proofCards.length > 0) {
-    onProgress?.({ phase: 'proof', done: 0, total: 1 });
-    proofName = 'proof.pdf';
-    await writeProof({
-      cards: proofCards.map((c) => ({
-        pngPath: pngOf(c.source)!,
-        name: c.outputs[0]?.replace(/^cards\//, '') ?? c.source,
-        findings: c.findings.map((f) => ({ code: f.code, severity: f.severity })),
-      })),
-      trimIn: geo.trimIn,
-      bleedIn: geo.bleedIn,
-      safeIn: geo.safeIn,
-      title,
-      outPath: inside(outDir, proofName),
-    });
-    onProgress?.({ phase: 'proof', done: 1, total: 1 });
-  }
-
-  const report: RunReport = {
-    recipe,
-    source: path.basename(opts.source),
-    geometry: { pagePx: geo.pagePx, trimPx: geo.trimPx, dpi: geo.dpi, pagePt: geo.pagePt, trimBoxPt: geo.trimBoxPt, bleedPt: geo.bleedPt },
-    cards: reportCards,
-    skippedFiles: [...opts.skippedFiles],
-    outputs: { singles: [...outputsBySource.values()].reduce((n, l) => n + l.length, 0), pdf: pdfName, sheets: sheetsName, proof: proofName, bundle: 'bundle.zip' },
-    totals: {
-      cards: reportCards.filter((c) => c.role === 'front' && c.state === 'done').length,
-      cardsSkipped: reportCards.filter((c) => c.state === 'skipped').length,
-      faces: plan.faces,
-      pages,
-      paddingAdded: plan.paddingAdded,
-      sheets: sheetCount,
-      findingsByCode: countFindings(reportCards),
-    },
-  };
-  onProgress?.({ phase: 'report', done: 0, total: 1 });
-  await writeReports(report, inside(outDir, 'report.json'), inside(outDir, 'report.csv'));
-
-  onProgress?.({ phase: 'bundle', done: 0, total: 1 });
-  await writeBundle(outDir, [
-    ...[...outputsBySource.values()].flat(),
-    ...[pdfName, sheetsName, proofName].filter((n): n is string => n !== null),
-    'report.json',
-    'report.csv',
-  ]);
-  onProgress?.({ phase: 'bundle', done: 1, total: 1 });
-  return report;
 }
 
 // A fixed time stamp for every bundle entry, so the same outputs always make the same zip bytes.
 const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
 
-/** Zips the listed files (paths relative to outDir) into outDir/bundle.zip. */
-export async function writeBundle(outDir: string, files: readonly string[]): Promise<void> {
+/**
+ * Zips the listed files (paths relative to outDir) into outDir/bundle.zip. `pending` maps a file still
+ * being written to the promise of its completion; the bundle waits for it when it reaches that entry.
+ */
+export async function writeBundle(outDir: string, files: readonly string[], pending: Readonly<Record<string, Promise<unknown>>> = {}): Promise<void> {
   const target = inside(outDir, 'bundle.zip');
-  const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel) }));
+  const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel), ready: pending[rel] }));
   try {
     await writeZip(`${target}.tmp`, entries, BUNDLE_MTIME);
   } catch (err) {

@@ -1,6 +1,5 @@
 import { createHash } from 'node:crypto';
-import { createWriteStream, type WriteStream } from 'node:fs';
-import { once } from 'node:events';
+import { FileSink } from './file-io.ts';
 
 /**
  * A minimal streaming PDF file writer (ISO 32000-1 7.5: header, body, xref table, trailer). Objects go
@@ -9,22 +8,16 @@ import { once } from 'node:events';
  * every allocated number must be written before `finish()`.
  */
 export class PdfStreamWriter {
-  private readonly out: WriteStream;
+  private sink: FileSink | null = null;
   private readonly offsets: number[] = [0];
   private position = 0;
   // Hash of every byte written: gives a file /ID that depends only on the content, so reruns match.
   private readonly digest = createHash('md5');
-  private failure: Error | null = null;
 
-  constructor(filePath: string) {
-    // A large buffer lets a whole card image go out in one write instead of waiting on every 16 KiB.
-    this.out = createWriteStream(filePath, { highWaterMark: 4 * 1024 * 1024 });
-    this.out.on('error', (err) => {
-      this.failure = err;
-    });
-  }
+  constructor(private readonly filePath: string) {}
 
   async start(): Promise<void> {
+    this.sink = await FileSink.create(this.filePath);
     // The comment line with bytes above 127 tells transfer tools the file is binary (7.5.2).
     await this.write(Buffer.concat([Buffer.from('%PDF-1.4\n%'), Buffer.from([0xe2, 0xe3, 0xcf, 0xd3]), Buffer.from('\n')]));
   }
@@ -46,16 +39,21 @@ export class PdfStreamWriter {
   /**
    * Writes a stream object; `dict` holds the entries other than /Length, which is set from the chunks.
    * `dataTag`, when given, must identify the chunks' content (e.g. the PNG chunk CRCs): the file /ID is
-   * then hashed from it instead of every data byte, which saves a pass over each card image.
+   * then hashed from it instead of every data byte, which saves a pass over each card image. The
+   * chunks are written straight from the caller's Buffers: keep them unchanged until this settles.
    */
   async writeStream(num: number, dict: string, chunks: Buffer[], dataTag?: string): Promise<void> {
     const length = chunks.reduce((sum, c) => sum + c.length, 0);
     this.markOffset(num);
-    // The whole object goes out as one batch (a card's IDAT arrives in dozens of chunks), and stream
-    // data is not fed to the /ID hash byte by byte: `dataTag`, when given, stands for it (see below).
-    await this.write(`${num} 0 obj\n<< ${dict} /Length ${length} >>\nstream\n`);
-    await this.writeBatch(chunks, dataTag);
-    await this.write('\nendstream\nendobj\n');
+    const head = this.bytes(`${num} 0 obj\n<< ${dict} /Length ${length} >>\nstream\n`);
+    const tail = this.bytes('\nendstream\nendobj\n');
+    this.digest.update(head);
+    if (dataTag === undefined) for (const c of chunks) this.digest.update(c);
+    else this.digest.update(dataTag);
+    this.digest.update(tail);
+    this.position += head.length + length + tail.length;
+    // The whole object goes out in one writev (a card's IDAT arrives in over a hundred chunks).
+    await this.open().writev([head, ...chunks, tail]);
   }
 
   /** Writes the xref table and trailer, then closes the file. Returns the file size in bytes. */
@@ -72,17 +70,20 @@ export class PdfStreamWriter {
       `trailer\n<< /Size ${this.offsets.length} /Root ${rootNum} 0 R /Info ${infoNum} 0 R /ID [<${fileId}> <${fileId}>] >>\n` +
         `startxref\n${xrefOffset}\n%%EOF\n`,
     );
-    this.out.end();
-    await once(this.out, 'finish');
-    if (this.failure) throw this.failure;
+    await this.open().close();
+    this.sink = null;
     return this.position;
   }
 
   /** Closes the file after a failure; the caller removes it. */
   async abort(): Promise<void> {
-    if (this.out.closed) return;
-    this.out.destroy();
-    await once(this.out, 'close').catch(() => undefined);
+    await this.sink?.abort();
+    this.sink = null;
+  }
+
+  private open(): FileSink {
+    if (!this.sink) throw new Error('the PDF writer is not started (or already closed)');
+    return this.sink;
   }
 
   private markOffset(num: number): void {
@@ -91,40 +92,16 @@ export class PdfStreamWriter {
     this.offsets[num] = this.position;
   }
 
-  private async writeBatch(chunks: readonly Buffer[], dataTag: string | undefined): Promise<void> {
-    if (this.failure) throw this.failure;
-    if (dataTag === undefined) for (const c of chunks) this.digest.update(c);
-    else this.digest.update(dataTag);
-    let ok = true;
-    this.out.cork();
-    for (const c of chunks) {
-      this.position += c.length;
-      ok = this.out.write(c);
-    }
-    this.out.uncork();
-    if (!ok) await this.drained();
-  }
-
-  private drained(): Promise<void> {
-    return new Promise<void>((resolve, reject) => {
-      const done = () => {
-        this.out.off('drain', done);
-        this.out.off('error', done);
-        if (this.failure) reject(this.failure);
-        else resolve();
-      };
-      this.out.on('drain', done);
-      this.out.on('error', done);
-    });
+  // latin1 keeps every char one byte, so offsets computed from lengths stay exact.
+  private bytes(data: string | Buffer): Buffer {
+    return typeof data === 'string' ? Buffer.from(data, 'latin1') : data;
   }
 
   private async write(data: string | Buffer): Promise<void> {
-    if (this.failure) throw this.failure;
-    // latin1 keeps every char one byte, so offsets computed from lengths stay exact.
-    const buf = typeof data === 'string' ? Buffer.from(data, 'latin1') : data;
+    const buf = this.bytes(data);
     this.position += buf.length;
     this.digest.update(buf);
-    if (!this.out.write(buf)) await this.drained();
+    await this.open().write(buf);
   }
 }
 

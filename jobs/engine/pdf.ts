@@ -1,4 +1,5 @@
 import { rename, rm, stat } from 'node:fs/promises';
+import { ReusedReader } from './file-io.ts';
 import { readPngForPdf } from './png-chunks.ts';
 import { PdfEngineError } from './pdf-errors.ts';
 import { PdfStreamWriter, pdfNum, pdfTextString } from './pdf-writer.ts';
@@ -14,7 +15,7 @@ export type PdfPage = { kind: 'card'; pngPath: string } | { kind: 'blank' };
  * as a FlateDecode image with PNG predictors, so pixels are lossless and nothing is re-encoded.
  *
  * Memory stays bounded: objects stream to `outPath + '.tmp'` as they are made (one card image in
- * memory at a time), and the file is renamed into place at the end. An image used on several pages
+ * memory at a time, read into a buffer reused for every card), and the file is renamed into place at the end. An image used on several pages
  * (copies, a repeated back) is stored once. Output bytes depend only on the inputs (no dates, the file
  * ID is a hash of the content), so a retry writes the same file.
  */
@@ -52,6 +53,8 @@ export async function writeCombinedPdf(opts: {
     // Only object numbers are kept per distinct image; the image bytes are released once written.
     const imageNums = new Map<string, number>();
     const pageNums: number[] = [];
+    // One buffer serves every card image in turn (see ReusedReader): no fresh memory per page.
+    const reader = new ReusedReader();
 
     for (const page of pages) {
       const pageNum = writer.allocate();
@@ -67,7 +70,7 @@ export async function writeCombinedPdf(opts: {
       } else {
         let imageNum = imageNums.get(page.pngPath);
         if (imageNum === undefined) {
-          const png = await readPngForPdf(page.pngPath);
+          const png = await readPngForPdf(page.pngPath, reader);
           imageNum = writer.allocate();
           await writer.writeStream(
             imageNum,

@@ -1,6 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
+import type { ReusedReader } from './file-io.ts';
 import { PdfEngineError } from './pdf-errors.ts';
 
 /** The parts of a PNG a PDF image XObject needs: size and the zlib stream split over IDAT chunks. */
@@ -20,12 +21,15 @@ const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0
  * Reads one PNG for pass-through into a PDF. Only 8-bit RGB, non-interlaced PNGs are accepted: their
  * IDAT data is exactly a FlateDecode stream with PNG predictors (ISO 32000-1 7.4.4.4), so no pixel is
  * decoded or re-encoded. The conform step writes every card in this format.
+ *
+ * With `reader`, the file goes into the reader's reused buffer and the returned IDAT slices are views
+ * of it: valid until the reader's next read.
  */
-export async function readPngForPdf(pngPath: string): Promise<PngForPdf> {
+export async function readPngForPdf(pngPath: string, reader?: ReusedReader): Promise<PngForPdf> {
   const name = path.basename(pngPath);
   let file: Buffer;
   try {
-    file = await readFile(pngPath);
+    file = reader ? await reader.readWhole(pngPath) : await readFile(pngPath);
   } catch (err) {
     throw new PdfEngineError('PDF_IMAGE_UNREADABLE', `card image "${name}" could not be read (${(err as Error).message}).`);
   }

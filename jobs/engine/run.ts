@@ -9,7 +9,7 @@ import { BleedwrightError } from '../../shared/errors.ts';
 import type { Finding } from '../../shared/findings.ts';
 import type { Recipe } from '../../shared/recipe.ts';
 import { assembleOutputs, inside, writeAtomic, type Progress, type RenderedCard } from './assemble.ts';
-import { imagePaths, openArtSet, readEntry, type ArchiveLimits, type ArtSet, type SkippedEntry } from './archive.ts';
+import { entryFingerprint, imagePaths, openArtSet, readEntry, type ArchiveLimits, type ArtSet, type SkippedEntry } from './archive.ts';
 import { conformCard } from './conform.ts';
 import { markDuplicates } from './preflight.ts';
 import type { RunReport } from './report.ts';
@@ -63,16 +63,17 @@ export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: R
 const RENDER_VERSION = 3;
 
 /**
- * Cache key of one render: the source bytes, its name (turn rules and the extension check read it),
+ * Cache key of one render: the source's fingerprint (entryFingerprint: CRC-32 and sizes, read from a
+ * zip's directory without inflating anything), its name (turn rules and the extension check read it),
  * the recipe fields conform reads, the engine's render version and the image library's version.
+ * A rerun thus finds its unchanged cards without reading their art; the CRC-32 + size + name match is
+ * what zip tools trust too (a changed file keeping all three is a 1 in 2^32 accident).
  */
-export function renderCacheKey(recipe: Recipe, source: string, input: Buffer): string {
+export function renderCacheKey(recipe: Recipe, source: string, fingerprint: string): string {
   const { trim, bleed, dpi, fit, fill, turn, turnRules } = recipe;
   const conformFields = { trim, bleed, dpi, source: recipe.source, fit, fill, turn, turnRules };
   return createHash('sha256')
-    .update(JSON.stringify({ v: RENDER_VERSION, vips: sharp.versions.vips, source, recipe: conformFields }))
-    .update('\0')
-    .update(input)
+    .update(JSON.stringify({ v: RENDER_VERSION, vips: sharp.versions.vips, source, fingerprint, recipe: conformFields }))
     .digest('hex');
 }
 
@@ -97,7 +98,7 @@ async function writeShared(target: string, data: Buffer | string): Promise<void>
 /**
  * Conforms one source image and writes its PNG to `pngPath` (temp name, then rename).
  *
- * With `cacheDir`, renders are kept there by `renderCacheKey` (source bytes and conform settings), and a
+ * With `cacheDir`, renders are kept there by `renderCacheKey` (source fingerprint and conform settings), and a
  * card rendered before is not conformed again: the returned `pngPath` is then the cached file (read it,
  * never change it) and `pngPath` is not written.
  */
@@ -111,15 +112,14 @@ export async function renderCard(opts: {
   cacheDir?: string | null;
 }): Promise<RenderedCard> {
   const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
-  const input = await readEntry(set, source);
-  const key = cacheDir ? renderCacheKey(recipe, source, input) : null;
+  const key = cacheDir ? renderCacheKey(recipe, source, await entryFingerprint(set, source)) : null;
   if (cacheDir && key) {
     const cached = await readCached(cacheDir, key);
     const cachedPng = path.join(cacheDir, `${key}.png`);
     if (cached && !cached.png) return { source, role, title, pngPath: null, info: cached.info };
     if (cached && (pngPath === null || (await fileExists(cachedPng)))) return { source, role, title, pngPath: pngPath === null ? null : cachedPng, info: cached.info };
   }
-  const result = await conformCard({ input, sourceName: source, recipe });
+  const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
   if (cacheDir && key) {
     if (result.png) await writeShared(path.join(cacheDir, `${key}.png`), result.png);
     await writeShared(path.join(cacheDir, `${key}.json`), JSON.stringify({ png: result.png !== null, info: result.info } satisfies CachedRender));
@@ -167,7 +167,16 @@ export async function runEngine(opts: {
       onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
       return card;
     });
-    const report = await assembleOutputs({ recipe, outDir, source: opts.source, cards, manifest: set.manifest, skippedFiles: set.skipped, onProgress });
+    const report = await assembleOutputs({
+      recipe,
+      outDir,
+      source: opts.source,
+      cards,
+      manifest: set.manifest,
+      skippedFiles: set.skipped,
+      onProgress,
+      rendersShared: cacheDir !== null,
+    });
     return { report, exitCode: report.totals.cardsSkipped > 0 ? 1 : 0, outDir };
   } finally {
     await rm(workDir, { recursive: true, force: true });

@@ -1,12 +1,12 @@
 // A small streaming zip writer for bundles (PKWARE APPNOTE 6.3: local headers, central directory,
 // end record; Zip64 records when a size or offset passes 4 GiB). It exists for speed: the CRC-32 of
 // every file is taken with zlib's native crc32 (a bundle of 1,000 cards holds about 2 GB, which
-// yazl's JavaScript CRC needed seconds for). Stored files are read once: streamed out while their CRC
-// is taken, which then follows in a data descriptor (APPNOTE 4.3.9); nothing is held in memory whole.
-import { createReadStream, createWriteStream, type WriteStream } from 'node:fs';
-import { once } from 'node:events';
-import { readFile, stat } from 'node:fs/promises';
+// yazl's JavaScript CRC needed seconds for). Stored files are read once: copied out in large pieces
+// through two reused buffers (one is read while the other is written) while their CRC is taken, which
+// then follows in a data descriptor (APPNOTE 4.3.9); nothing is held in memory whole.
+import { open, readFile } from 'node:fs/promises';
 import { crc32, deflateRawSync } from 'node:zlib';
+import { FileSink } from './file-io.ts';
 
 export type ZipFileEntry = {
   /** Path of the file on disk. */
@@ -15,6 +15,8 @@ export type ZipFileEntry = {
   name: string;
   /** Deflate the data (small text files); otherwise stored as-is (PNG, JPEG, PDF are compressed already). */
   compress: boolean;
+  /** Settles when `file` is complete (a file still being written by another task); awaited before it is read. */
+  ready?: Promise<unknown>;
 };
 
 const U32 = 0xffffffff;
@@ -23,7 +25,7 @@ const UTF8_FLAG = 0x800;
 const DESCRIPTOR_FLAG = 0x8;
 const MADE_BY_UNIX = (3 << 8) | 45;
 const MODE_FILE = 0o100644;
-const READ_CHUNK = 1024 * 1024;
+const COPY_CHUNK = 4 * 1024 * 1024;
 
 /** DOS date and time fields of a fixed moment, so the same files always make the same bytes. */
 function dosDateTime(d: Date): { date: number; time: number } {
@@ -34,25 +36,6 @@ function dosDateTime(d: Date): { date: number; time: number } {
 }
 
 type Written = { name: Buffer; crc: number; size: number; compressedSize: number; offset: number; method: number; descriptor: boolean };
-
-class Output {
-  private readonly out: WriteStream;
-  position = 0;
-  constructor(file: string) {
-    this.out = createWriteStream(file, { highWaterMark: READ_CHUNK });
-  }
-  async write(buf: Buffer): Promise<void> {
-    this.position += buf.length;
-    if (!this.out.write(buf)) await once(this.out, 'drain');
-  }
-  async close(): Promise<void> {
-    this.out.end();
-    await once(this.out, 'finish');
-  }
-  destroy(): void {
-    this.out.destroy();
-  }
-}
 
 /** With a data descriptor, CRC and sizes are 0 here (APPNOTE 4.4.4); a Zip64 entry says so with its extra field. */
 function localHeader(e: Written, stamp: { date: number; time: number }): Buffer {
@@ -160,41 +143,55 @@ function endRecords(count: number, cdOffset: number, cdSize: number): Buffer {
 /** Writes `entries` in order into a zip at `target`; every entry gets the time stamp `mtime`. */
 export async function writeZip(target: string, entries: readonly ZipFileEntry[], mtime: Date): Promise<void> {
   const stamp = dosDateTime(mtime);
-  const out = new Output(target);
+  const out = await FileSink.create(target);
   const written: Written[] = [];
+  // Two copy buffers, allocated once for the whole zip: one is filled while the other is written.
+  const buffers = [Buffer.allocUnsafe(COPY_CHUNK), Buffer.allocUnsafe(COPY_CHUNK)] as const;
   try {
     for (const entry of entries) {
+      await entry.ready;
       const name = Buffer.from(entry.name, 'utf8');
-      const offset = out.position;
+      const offset = out.offset;
       if (entry.compress) {
         const data = await readFile(entry.file);
         const deflated = deflateRawSync(data);
         const e = { name, crc: crc32(data), size: data.length, compressedSize: deflated.length, offset, method: 8, descriptor: false };
         await out.write(localHeader(e, stamp));
-        await out.write(deflated);
+        await out.writev([deflated]);
         written.push(e);
       } else {
-        // The size (from stat) decides up front whether the entry needs Zip64 records.
-        const { size } = await stat(entry.file);
-        const e = { name, crc: 0, size, compressedSize: size, offset, method: 0, descriptor: true };
-        await out.write(localHeader(e, stamp));
-        let copied = 0;
-        for await (const chunk of createReadStream(entry.file, { highWaterMark: READ_CHUNK })) {
-          copied += (chunk as Buffer).length;
-          e.crc = crc32(chunk as Buffer, e.crc);
-          await out.write(chunk as Buffer);
+        const fh = await open(entry.file, 'r');
+        try {
+          // The size (from stat) decides up front whether the entry needs Zip64 records.
+          const { size } = await fh.stat();
+          const e = { name, crc: 0, size, compressedSize: size, offset, method: 0, descriptor: true };
+          await out.write(localHeader(e, stamp));
+          let copied = 0;
+          let pending: Promise<void> = Promise.resolve();
+          for (let turn = 0; ; turn++) {
+            const buf = buffers[turn % 2]!;
+            // Reads this piece while the previous one is written; both done before either buffer is reused.
+            const [{ bytesRead }] = await Promise.all([fh.read(buf, 0, buf.length, copied), pending]);
+            if (bytesRead === 0) break;
+            const piece = buf.subarray(0, bytesRead);
+            copied += bytesRead;
+            e.crc = crc32(piece, e.crc);
+            pending = out.writev([piece]);
+          }
+          if (copied !== size) throw new Error(`"${entry.name}" changed size while it was being zipped`);
+          await out.write(dataDescriptor(e));
+          written.push(e);
+        } finally {
+          await fh.close();
         }
-        if (copied !== size) throw new Error(`"${entry.name}" changed size while it was being zipped`);
-        await out.write(dataDescriptor(e));
-        written.push(e);
       }
     }
-    const cdOffset = out.position;
+    const cdOffset = out.offset;
     for (const e of written) await out.write(centralHeader(e, stamp));
-    await out.write(endRecords(written.length, cdOffset, out.position - cdOffset));
+    await out.write(endRecords(written.length, cdOffset, out.offset - cdOffset));
     await out.close();
   } catch (err) {
-    out.destroy();
+    await out.abort();
     throw err;
   }
 }
