@@ -36,13 +36,13 @@ export const SIGN_IN_LIMITS: SignInLimits = {
   ip: { maxFailures: 50, windowMs: 15 * MINUTE, lockMs: 5 * MINUTE, maxLockMs: 60 * MINUTE },
 };
 
-/** A key with no failure for this long starts again from nothing (its lock-outs no longer grow). */
+/** A key with no attempt for this long starts again from nothing (its lock-outs no longer grow). */
 export const COUNTER_IDLE_MS = 24 * 60 * MINUTE;
 
 /**
  * The part of a client address that identifies one client: an IPv4 address as it is (also when the
- * socket shows it IPv4-mapped), an IPv6 address by its /64 network, which one home or server usually
- * holds whole (RFC 6177 assigns end sites /56 or /48, so per-address counting would be trivially dodged).
+ * socket shows it IPv4-mapped), an IPv6 address by its /64 network: an end site holds at least a whole
+ * /64 (RFC 6177), so counting single IPv6 addresses would be dodged by changing the last 64 bits.
  */
 export function clientKey(ip: string | undefined): string {
   if (!ip) return 'unknown';
