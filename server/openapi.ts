@@ -130,6 +130,8 @@ interface Doc {
   multipart?: z.ZodType;
   status?: number;
   response?: z.ZodType | { file: string };
+  /** Rate limited: documents the 429 answer with its Retry-After header. */
+  limited?: boolean;
 }
 
 const ws = '/workspaces/{workspaceId}';
@@ -137,7 +139,7 @@ const DOCS: Doc[] = [
   { method: 'get', path: '/health', summary: 'Database and queue health (503 when either is down)', tag: 'health', auth: 'public', response: anyObject },
   { method: 'get', path: '/openapi.json', summary: 'This document', tag: 'health', auth: 'public', response: anyObject },
   { method: 'get', path: '/session', summary: 'Who is signed in, and the CSRF token for writes', tag: 'session', auth: 'public', response: anyObject },
-  { method: 'post', path: '/session', summary: 'Sign in', tag: 'session', auth: 'public', body: signInSchema, response: anyObject },
+  { method: 'post', path: '/session', summary: 'Sign in', tag: 'session', auth: 'public', body: signInSchema, response: anyObject, limited: true },
   { method: 'delete', path: '/session', summary: 'Sign out', tag: 'session', auth: 'public', status: 204 },
   { method: 'get', path: '/workspaces', summary: 'Workspaces of the signed-in account', tag: 'workspaces', auth: 'session', response: anyObject },
   { method: 'get', path: `${ws}`, summary: 'One workspace', tag: 'workspaces', auth: 'member', response: anyObject },
@@ -244,7 +246,19 @@ function buildDocument() {
       tags: [d.tag],
       security: d.auth === 'public' ? [] : d.auth === 'session' ? [{ [cookie.name]: [] }] : [{ [bearer.name]: [] }, { [cookie.name]: [] }],
       request,
-      responses: { [status]: ok, default: errors },
+      responses: {
+        [status]: ok,
+        ...(d.limited
+          ? {
+              429: {
+                description: 'Too many failed attempts (code TOO_MANY_ATTEMPTS); try again after Retry-After seconds',
+                headers: { 'Retry-After': { description: 'Seconds until the next attempt is counted', schema: { type: 'integer' } } },
+                content: { 'application/json': { schema: errorSchema } },
+              },
+            }
+          : {}),
+        default: errors,
+      },
     });
   }
   return new OpenApiGeneratorV3(registry.definitions).generateDocument({

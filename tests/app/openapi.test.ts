@@ -7,6 +7,7 @@ import type { RunningServer } from '../../server/server.ts';
 import { createApp } from '../../server/app.ts';
 import { startTestServer } from './fixtures.ts';
 import { listApiRoutes } from './access-table.ts';
+import { IpClient, loopbackIp } from './ip-client.ts';
 
 let server: RunningServer;
 let doc: any;
@@ -49,5 +50,18 @@ describe('/api/openapi.json', () => {
     const poll = doc.paths['/api/workspaces/{workspaceId}/runs/{runId}'].get;
     expect(poll.security).toEqual(expect.arrayContaining([{ bearerToken: [] }]));
     expect(JSON.stringify(poll.responses['200'])).toContain('#/components/schemas/RunDetail');
+  });
+
+  it('documents the sign-in rate limit: 429 with Retry-After', async () => {
+    const signIn = doc.paths['/api/session'].post.responses['429'];
+    expect(signIn.headers['Retry-After'].schema).toEqual({ type: 'integer' });
+    // And the server answers the same way once the limit is reached (from an address of its own, so
+    // no other test's client is held off).
+    const client = await IpClient.open(server.url, loopbackIp());
+    let res = await client.signIn('nobody-openapi@example.test', 'wrong-password-1');
+    for (let i = 0; i < 30 && res.status !== 429; i++) res = await client.signIn('nobody-openapi@example.test', 'wrong-password-1');
+    expect(res.status).toBe(429);
+    expect(Number(res.headers['retry-after'])).toBeGreaterThan(0);
+    expect(res.body.error.code).toBe('TOO_MANY_ATTEMPTS');
   });
 });
