@@ -28,7 +28,8 @@ export type WorkersBench = {
 
 export type WorkersResult = { wallMs: number; cpuMs: number; peakBytes: number; state: string; rerun: { wallMs: number; state: string; cached: number } | null };
 
-export function workersBench(root: string, work: string): WorkersBench {
+/** `bossSchema` keeps two benches on the one bench database from taking each other's jobs. */
+export function workersBench(root: string, work: string, bossSchema = BOSS_SCHEMA): WorkersBench {
   let server: RunningServer | null = null;
   let worker: ChildProcess | null = null;
   let workspaceId = '';
@@ -67,7 +68,7 @@ export function workersBench(root: string, work: string): WorkersBench {
         work: false,
         inbox: null,
         logger: createLogger('silent'),
-        runs: { tmpDir: path.join(work, 'tmp'), pollingSeconds: 0.5, maintenanceSeconds: 5, bossSchema: BOSS_SCHEMA },
+        runs: { tmpDir: path.join(work, 'tmp'), pollingSeconds: 0.5, maintenanceSeconds: 5, bossSchema },
       });
       const ws = await insertWorkspace(server.deps.db, { name: 'Bench workspace', slug: `bench-${randomBytes(4).toString('hex')}` });
       workspaceId = ws.id;
@@ -77,7 +78,7 @@ export function workersBench(root: string, work: string): WorkersBench {
           ...process.env,
           DATABASE_URL: databaseUrl,
           BLEEDWRIGHT_STORAGE: storageRoot,
-          BLEEDWRIGHT_BOSS_SCHEMA: BOSS_SCHEMA,
+          BLEEDWRIGHT_BOSS_SCHEMA: bossSchema,
           BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher?.port ?? 4425),
           BLEEDWRIGHT_PUBLIC_URL: server.url,
           BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5',

@@ -31,7 +31,8 @@ export type RunResult = {
   outDir: string;
 };
 
-async function mapLimited<T, R>(items: readonly T[], limit: number, fn: (item: T, index: number) => Promise<R>): Promise<R[]> {
+/** `fn` over `items`, at most `limit` at a time; results in the order of `items`. */
+export async function mapLimited<T, R>(items: readonly T[], limit: number, fn: (item: T, index: number) => Promise<R>): Promise<R[]> {
   const results = new Array<R>(items.length);
   let next = 0;
   const worker = async () => {

@@ -7,13 +7,16 @@ import { mkdir, rm, stat } from 'node:fs/promises';
 import path from 'node:path';
 import type { OutputKind, RunOutput, RunTotals } from '../../shared/api/runs.ts';
 import { slugify } from '../../shared/naming.ts';
-import { assembleOutputs, type RenderedCard } from '../engine/run.ts';
+import { assembleOutputs, mapLimited, type RenderedCard } from '../engine/run.ts';
 import { countCards, listCards, setCardFindings } from '../../server/db/run-cards.ts';
 import { transitionRun } from '../../server/db/runs.ts';
 import { storageKeys } from '../../server/storage.ts';
 import { finishRunFailed, mailRunEnded } from './finish.ts';
 import { loadRun, openRunArtSet } from './load.ts';
 import type { RunsRuntime } from './runtime.ts';
+
+// Render files fetched from storage at once (S3 downloads; local storage only checks they exist).
+const FETCHES_AT_ONCE = 8;
 
 export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void> {
   const loaded = await loadRun(rt, runId);
@@ -27,19 +30,19 @@ export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void>
     const cards = await listCards(rt.db, runId);
     const set = await openRunArtSet(rt, loaded);
     const artSet = await rt.db('art_sets').where({ id: loaded.artSetId }).first('name');
-    const rendered: RenderedCard[] = [];
-    for (const c of cards) {
-      if (c.state !== 'done' && c.state !== 'skipped' && c.state !== 'failed') continue;
+    const settled = cards.filter((c) => c.state === 'done' || c.state === 'skipped' || c.state === 'failed');
+    // Local storage hands out the stored render itself (the engine links singles to it); S3 downloads.
+    const rendered: RenderedCard[] = await mapLimited(settled, FETCHES_AT_ONCE, async (c) => {
       const info = (c.info ?? { sourcePx: null, format: null, findings: c.findings }) as RenderedCard['info'] & { renderKey?: string | null };
-      rendered.push({
+      return {
         source: c.source,
         role: c.role,
         title: c.title,
         pngPath: c.state === 'done' && info.renderKey ? await rt.storage.fetchFile(info.renderKey, rt.config.workDir) : null,
         // Copies, so marking duplicates adds findings to this assembly only.
         info: { ...info, findings: [...(info.findings ?? c.findings)] },
-      });
-    }
+      };
+    });
     await mkdir(workDir, { recursive: true });
     const report = await assembleOutputs({
       recipe,
@@ -66,10 +69,13 @@ export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void>
       outputs.push({ name: f.name, kind: f.kind, bytes });
     }
     const byId = new Map(cards.map((c) => [`${c.role}:${c.source}`, c.id]));
-    for (const rc of report.cards) {
-      const id = byId.get(`${rc.role}:${rc.source}`);
-      if (id) await setCardFindings(rt.db, id, rc.findings, rc.outputs);
-    }
+    // One transaction for every card's final findings: one commit, not one per card.
+    await rt.db.transaction(async (trx) => {
+      for (const rc of report.cards) {
+        const id = byId.get(`${rc.role}:${rc.source}`);
+        if (id) await setCardFindings(trx, id, rc.findings, rc.outputs);
+      }
+    });
     const totals: RunTotals = {
       cards: report.totals.cards,
       pages: report.totals.pages,

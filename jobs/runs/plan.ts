@@ -5,9 +5,9 @@ import { isBleedwrightError } from '../../shared/errors.ts';
 import type { Recipe } from '../../shared/recipe.ts';
 import type { RunDiff } from '../../shared/api/runs.ts';
 import type { Finding } from '../../shared/findings.ts';
-import { cardSources } from '../engine/run.ts';
+import { cardSources, mapLimited } from '../engine/run.ts';
 import { listEntries } from '../../server/db/art-sets.ts';
-import { findCached } from '../../server/db/render-cache.ts';
+import { findCachedMany } from '../../server/db/render-cache.ts';
 import { insertCards, listCards, settleCard } from '../../server/db/run-cards.ts';
 import { transitionRun, updateRun } from '../../server/db/runs.ts';
 import { finishRunFailed } from './finish.ts';
@@ -30,6 +30,9 @@ export function diffCards(previous: ReadonlyArray<{ source: string; source_sha25
   for (const source of before.keys()) if (!now.has(source)) diff.removed.push(source);
   return diff;
 }
+
+// Storage existence checks run this many at once (a round trip each on S3).
+const STORAGE_CHECKS_AT_ONCE = 16;
 
 export type DeckColumns = { deck_order: number | null; copies: number | null; back_source: string | null };
 
@@ -85,23 +88,32 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   const previous = run.previous_run_id ? await listCards(rt.db, run.previous_run_id) : null;
   await updateRun(rt.db, runId, { diff: JSON.stringify(diffCards(previous, cards, run.previous_run_id)) });
 
-  // Cards whose (source bytes, name, recipe version) were rendered before are taken from the cache.
+  // Cards whose (source bytes, name, recipe version) were rendered before are taken from the cache,
+  // looked up in one query and settled in one transaction: they never become render jobs.
+  const open = cards.filter((c) => c.state === 'pending' || c.state === 'rendering');
+  const cached = await findCachedMany(
+    rt.db,
+    { workspace_id: run.workspace_id, recipe_version_id: loaded.recipeVersionId },
+    open.map((c) => ({ source_sha256: c.source_sha256, source_path: c.source })),
+  );
+  const hitOf = new Map(cached.map((h) => [`${h.source_sha256}\0${h.source_path}`, h]));
+  const hits = await mapLimited(open, STORAGE_CHECKS_AT_ONCE, async (card) => {
+    const hit = hitOf.get(`${card.source_sha256}\0${card.source}`);
+    // A render whose file has gone from storage is rendered again.
+    return hit && (!hit.storage_key || (await rt.storage.exists(hit.storage_key))) ? hit : null;
+  });
   const toRender: string[] = [];
-  for (const card of cards) {
-    if (card.state !== 'pending' && card.state !== 'rendering') continue;
-    const hit = await findCached(rt.db, {
-      workspace_id: run.workspace_id,
-      recipe_version_id: loaded.recipeVersionId,
-      source_sha256: card.source_sha256,
-      source_path: card.source,
-    });
-    if (hit && (!hit.storage_key || (await rt.storage.exists(hit.storage_key)))) {
+  await rt.db.transaction(async (trx) => {
+    for (const [i, card] of open.entries()) {
+      const hit = hits[i];
+      if (!hit) {
+        toRender.push(card.id);
+        continue;
+      }
       const info = hit.info as Record<string, unknown> & { findings: Finding[] };
-      await settleCard(rt.db, card.id, { state: hit.storage_key ? 'done' : 'skipped', cached: true, outputs: [], info, findings: info.findings });
-    } else {
-      toRender.push(card.id);
+      await settleCard(trx, card.id, { state: hit.storage_key ? 'done' : 'skipped', cached: true, outputs: [], info, findings: info.findings });
     }
-  }
+  });
   for (const cardId of toRender) {
     // A duplicate send (a retried plan) is dropped by the singleton key; the render is idempotent anyway.
     await rt.send('run-render', { cardId }, { singletonKey: cardId, ...renderJobOptions(rt) });

@@ -13,8 +13,22 @@ export interface RenderCacheRow {
 
 type Key = { workspace_id: string; recipe_version_id: string; source_sha256: string; source_path: string };
 
-export async function findCached(db: Knex, key: Key): Promise<RenderCacheRow | undefined> {
-  return db<RenderCacheRow>('render_cache').where(key).first();
+/**
+ * Every cached render of one workspace and recipe version among `sources` (sha256 and path pairs), in
+ * one query: a rerun's plan looks up all its cards at once.
+ */
+export async function findCachedMany(
+  db: Knex,
+  scope: Pick<Key, 'workspace_id' | 'recipe_version_id'>,
+  sources: ReadonlyArray<Pick<Key, 'source_sha256' | 'source_path'>>,
+): Promise<RenderCacheRow[]> {
+  if (sources.length === 0) return [];
+  return db<RenderCacheRow>('render_cache')
+    .where(scope)
+    .whereIn(
+      ['source_sha256', 'source_path'],
+      sources.map((s) => [s.source_sha256, s.source_path]),
+    );
 }
 
 /** Records a render; a second render of the same key (a retry) keeps the first row. */
