@@ -2,10 +2,11 @@
 // Entry point of the `bleedwright` CLI: loads the TypeScript sources through tsx.
 import { availableParallelism } from 'node:os';
 
-// Every card in flight (CARDS_IN_FLIGHT: cores, counting at most 4, + 1) holds a libuv pool thread while
-// libvips works; two more keep file reads and writes from queueing behind them. Set before anything
-// uses the pool, which reads it once.
-process.env.UV_THREADPOOL_SIZE ??= String(Math.max(4, Math.min(4, availableParallelism()) + 3));
+// Every card in flight (CARDS_IN_FLIGHT in jobs/engine/run.ts: BLEEDWRIGHT_CARDS_IN_FLIGHT, else cores,
+// counting at most 4, + 1) holds a libuv pool thread while libvips works; two more keep file reads and
+// writes from queueing behind them. Set before anything uses the pool, which reads it once.
+const inFlight = Number(process.env.BLEEDWRIGHT_CARDS_IN_FLIGHT) || Math.min(4, availableParallelism()) + 1;
+process.env.UV_THREADPOOL_SIZE ??= String(Math.max(4, inFlight + 2));
 const { register } = await import('tsx/esm/api');
 register();
 await import('../cli/main.ts');

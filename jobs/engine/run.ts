@@ -18,11 +18,16 @@ export { assembleOutputs, writeBundle, type Progress, type RenderedCard } from '
 
 /**
  * Cards conformed at once: one more than the cores (at most 4 cores' worth, as each card holds its
- * decoded pixels in memory). Each card's libvips work runs on one thread of the libuv pool, but its zip
- * read, hashing and callbacks run on the single JavaScript thread; with only one card per core, a core
- * sits idle whenever two cards wait for that thread at the same time.
+ * decoded pixels in memory), or BLEEDWRIGHT_CARDS_IN_FLIGHT. Each card's libvips work runs on one thread
+ * of the libuv pool, but its zip read, hashing and callbacks run on the single JavaScript thread; with
+ * only one card per core, a core sits idle whenever two cards wait for that thread at the same time.
  */
-export const CARDS_IN_FLIGHT = Math.min(4, availableParallelism()) + 1;
+export const CARDS_IN_FLIGHT = cardsInFlight(process.env);
+
+function cardsInFlight(env: NodeJS.ProcessEnv): number {
+  const set = Number(env.BLEEDWRIGHT_CARDS_IN_FLIGHT);
+  return Number.isInteger(set) && set >= 1 ? set : Math.min(4, availableParallelism()) + 1;
+}
 
 export type RunResult = {
   report: RunReport;
