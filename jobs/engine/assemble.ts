@@ -195,9 +195,10 @@ export async function assembleOutputs(opts: {
       onProgress?.({ phase: 'sheets', done: 1, total: 1 });
     }
 
-    const reportCards = cards.map((c) =>
-      reportCardOf(c, outputsBySource.get(c.source) ?? [], plan.slots.filter((s) => s.source === c.source && !s.padding && s.kind === c.role).length),
-    );
+    // Copies of each card in the deck, counted in one pass over the slots (not one pass per card).
+    const copiesOf = new Map<string, number>();
+    for (const s of plan.slots) if (s.source && !s.padding) copiesOf.set(`${s.kind}:${s.source}`, (copiesOf.get(`${s.kind}:${s.source}`) ?? 0) + 1);
+    const reportCards = cards.map((c) => reportCardOf(c, outputsBySource.get(c.source) ?? [], copiesOf.get(`${c.role}:${c.source}`) ?? 0));
 
     let proofName: string | null = null;
     const proofCards = reportCards.filter((c) => c.state === 'done');
