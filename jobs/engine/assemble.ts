@@ -129,8 +129,8 @@ export async function assembleOutputs(opts: {
       const target = inside(cardsDir, names[i]!);
       if (recipe.outputs.singles === 'png') {
         // A PNG single is the rendered PNG byte for byte: link it instead of copying ~1 MB per card.
-        await linkOrCopy(src.pngPath!, target);
-        if (opts.rendersShared) await chmod(target, 0o444);
+        const how = await linkOrCopy(src.pngPath!, target);
+        if (how === 'link' && opts.rendersShared) await chmod(target, 0o444);
       } else {
         await writeAtomic(target, await encodeSingle(await readFile(src.pngPath!), recipe.outputs.singles, recipe.dpi));
       }

@@ -117,17 +117,21 @@ function skipBytes(list: readonly Buffer[], skip: number): Buffer[] {
 
 /**
  * Puts `source`'s bytes at `target` as a hard link (no data copied), or as a copy where links cannot be
- * made (another file system, or one without links). Temp name, then rename: `target` is never half there.
+ * made (another file system, or one without links). Temp name, then rename: `target` is never half
+ * there. Returns 'link' or 'copy'.
  */
-export async function linkOrCopy(source: string, target: string): Promise<void> {
+export async function linkOrCopy(source: string, target: string): Promise<'link' | 'copy'> {
   const tmp = `${target}.tmp`;
   await rm(tmp, { force: true });
+  let how: 'link' | 'copy' = 'link';
   try {
     await link(source, tmp);
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
     if (code !== 'EXDEV' && code !== 'EPERM' && code !== 'ENOTSUP' && code !== 'EMLINK') throw err;
     await copyFile(source, tmp);
+    how = 'copy';
   }
   await rename(tmp, target);
+  return how;
 }

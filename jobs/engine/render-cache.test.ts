@@ -1,10 +1,12 @@
 // The render cache behind reruns (runEngine cacheDir) and the bundle's zip writer.
 import { spawnSync } from 'node:child_process';
+import { createWriteStream } from 'node:fs';
 import { mkdir, mkdtemp, readdir, readFile, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
 import { describe, expect, it } from 'vitest';
+import yazl from 'yazl';
 import { parseRecipe } from '../../shared/recipe.ts';
 import { runEngine } from './run.ts';
 import { writeZip } from './zip-writer.ts';
@@ -21,6 +23,22 @@ async function artSet(files: Record<string, Buffer>): Promise<string> {
   const dir = await mkdtemp(path.join(tmpdir(), 'bw-cache-art-'));
   for (const [name, data] of Object.entries(files)) await writeFile(path.join(dir, name), data);
   return dir;
+}
+
+/** A stored zip of the files (what a desktop archiver makes of PNGs). */
+async function zipOf(files: Record<string, Buffer>): Promise<string> {
+  const file = path.join(await mkdtemp(path.join(tmpdir(), 'bw-cache-zip-')), 'art.zip');
+  const zip = new yazl.ZipFile();
+  for (const [name, data] of Object.entries(files)) zip.addBuffer(data, name, { compress: false });
+  zip.end();
+  await new Promise<void>((resolve, reject) => {
+    zip.outputStream.pipe(createWriteStream(file)).on('close', resolve).on('error', reject);
+  });
+  return file;
+}
+
+async function renders(cacheDir: string): Promise<string[]> {
+  return (await readdir(cacheDir)).filter((f) => f.endsWith('.png')).sort();
 }
 
 async function cards(outDir: string): Promise<Record<string, Buffer>> {
@@ -54,6 +72,39 @@ describe('render cache', () => {
     // A recipe change that alters pixels (resolution) misses the cache.
     await runEngine({ source: second, recipe: { ...recipe, dpi: 120 }, outDir: path.join(base, 'dpi'), cacheDir });
     expect((await readdir(cacheDir)).filter((f) => f.endsWith('.png'))).toHaveLength(5);
+  });
+
+  it('finds unchanged zip entries by their CRC-32 and sizes, and links read-only singles to the cached renders', async () => {
+    const base = await mkdtemp(path.join(tmpdir(), 'bw-cache-'));
+    const cacheDir = path.join(base, 'cache');
+    const a = await art('#aa2233');
+    await runEngine({ source: await zipOf({ 'a.png': a, 'b.png': await art('#2233aa') }), recipe, outDir: path.join(base, 'one'), cacheDir });
+    const first = await renders(cacheDir);
+    expect(first).toHaveLength(2);
+
+    // Each PNG single is the cached render itself (same inode), made read-only so an edit in place
+    // cannot change the cache behind the next run.
+    const single = await stat(path.join(base, 'one', 'cards', 'a.png'));
+    const inodes = await Promise.all(first.map(async (f) => (await stat(path.join(cacheDir, f))).ino));
+    expect(inodes).toContain(single.ino);
+    expect(single.nlink).toBe(2);
+    expect(single.mode & 0o222).toBe(0);
+
+    // A new zip with b.png fixed: one new render, a.png found by its directory entry.
+    const fixed = await zipOf({ 'a.png': a, 'b.png': await art('#22aa33') });
+    const rerun = await runEngine({ source: fixed, recipe, outDir: path.join(base, 'two'), cacheDir });
+    expect(await renders(cacheDir)).toHaveLength(3);
+    const plain = await runEngine({ source: fixed, recipe, outDir: path.join(base, 'plain'), cacheDir: null });
+    expect(await cards(path.join(base, 'two'))).toEqual(await cards(path.join(base, 'plain')));
+    expect(rerun.report.cards).toEqual(plain.report.cards);
+    for (const name of ['bundle.zip', 'cache-deck.pdf']) {
+      expect(await readFile(path.join(base, 'two', name))).toEqual(await readFile(path.join(base, 'plain', name)));
+    }
+
+    // Without a cache the singles are the run's own renders: one link each, and writable.
+    const own = await stat(path.join(base, 'plain', 'cards', 'a.png'));
+    expect(own.nlink).toBe(1);
+    expect(own.mode & 0o200).toBe(0o200);
   });
 
   it('remembers rejected art too', async () => {
