@@ -1,12 +1,22 @@
 #!/usr/bin/env node
-// Entry point of the `bleedwright` CLI: loads the TypeScript sources through tsx.
+// Entry point of the `bleedwright` CLI: runs the prebuilt bundle (scripts/build-cli.mjs), rebuilt when
+// a source is newer; loads the TypeScript sources through tsx when it cannot be built.
 import { availableParallelism } from 'node:os';
+import { pathToFileURL } from 'node:url';
 
 // Every card in flight (CARDS_IN_FLIGHT in jobs/engine/run.ts: BLEEDWRIGHT_CARDS_IN_FLIGHT, else cores,
 // counting at most 4, + 1) holds a libuv pool thread while libvips works; two more keep file reads and
 // writes from queueing behind them. Set before anything uses the pool, which reads it once.
 const inFlight = Number(process.env.BLEEDWRIGHT_CARDS_IN_FLIGHT) || Math.min(4, availableParallelism()) + 1;
 process.env.UV_THREADPOOL_SIZE ??= String(Math.max(4, inFlight + 2));
-const { register } = await import('tsx/esm/api');
-register();
-await import('../cli/main.ts');
+
+const { cliEntry } = await import('../scripts/build-cli.mjs');
+const entry = await cliEntry();
+if (entry) {
+  process.setSourceMapsEnabled(true); // stack traces name the .ts sources
+  await import(pathToFileURL(entry).href);
+} else {
+  const { register } = await import('tsx/esm/api');
+  register();
+  await import('../cli/main.ts');
+}

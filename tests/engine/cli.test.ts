@@ -1,5 +1,6 @@
-import { existsSync } from 'node:fs';
-import { mkdir, mkdtemp, readdir, readFile, writeFile } from 'node:fs/promises';
+import { spawn } from 'node:child_process';
+import { existsSync, statSync } from 'node:fs';
+import { cp, mkdir, mkdtemp, readdir, readFile, symlink, utimes, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -157,5 +158,87 @@ describe('one bad file never sinks a run', () => {
     expect(report.totals).toMatchObject({ cards: 2, cardsSkipped: 1, pages: 2 });
     expect((await readdir(path.join(out, 'cards'))).sort()).toEqual(['card-1.png', 'card-2.png']);
     expect(run('pdfinfo', [path.join(out, 'garbage-test.pdf')]).stdout).toMatch(/Pages:\s+2\n/);
+  });
+});
+
+describe('the prebuilt CLI bundle (scripts/build-cli.mjs)', () => {
+  type Manifest = { entry: string; builtAt: number; inputs: string[]; outputs: string[] };
+  const manifestOf = async (at: string): Promise<Manifest> => JSON.parse(await readFile(path.join(at, 'dist-cli/manifest.json'), 'utf8'));
+  const cliAt = (at: string, args: string[], env: NodeJS.ProcessEnv = {}) =>
+    new Promise<{ status: number; stdout: string; stderr: string }>((resolve, reject) => {
+      const child = spawn('node', [path.join(at, 'bin/bleedwright.js'), ...args], { cwd: at, env: { ...process.env, ...env } });
+      let stdout = '';
+      let stderr = '';
+      child.stdout.on('data', (d) => (stdout += d));
+      child.stderr.on('data', (d) => (stderr += d));
+      child.on('error', reject);
+      child.on('close', (code) => resolve({ status: code ?? -1, stdout, stderr }));
+    });
+
+  /** A copy of the CLI's sources in a folder of its own, so its bundle can be removed and made stale. */
+  async function checkoutCopy(withTsx: boolean): Promise<string> {
+    const at = await mkdtemp(path.join(tmpdir(), 'bw-cli-bundle-'));
+    for (const part of ['bin', 'cli', 'shared', 'jobs/engine', 'scripts/build-cli.mjs', 'tsconfig.json', 'package.json']) {
+      await cp(path.join(root, part), path.join(at, part), { recursive: true });
+    }
+    // Without tsx the CLI can only start from the bundle: a run that answers proves the bundle ran.
+    await mkdir(path.join(at, 'node_modules'));
+    for (const name of await readdir(path.join(root, 'node_modules'))) {
+      if (withTsx || name !== 'tsx') await symlink(path.join(root, 'node_modules', name), path.join(at, 'node_modules', name));
+    }
+    return at;
+  }
+
+  it('the CLI in this checkout runs a bundle built from every source it imports', async () => {
+    expect(cli('recipe', '--example').status).toBe(0);
+    const manifest = await manifestOf(root);
+    expect(manifest.inputs).toEqual(expect.arrayContaining(['cli/main.ts', 'cli/format.ts', 'shared/recipe.ts', 'jobs/engine/run.ts', 'jobs/engine/sheets.ts', 'tsconfig.json']));
+    for (const file of manifest.inputs) expect(statSync(path.join(root, file)).mtimeMs, file).toBeLessThan(manifest.builtAt);
+    expect(existsSync(path.join(root, 'dist-cli', manifest.entry))).toBe(true);
+  });
+
+  it('builds the bundle when it is absent, also with two CLIs starting at once', async () => {
+    const at = await checkoutCopy(false);
+    expect(existsSync(path.join(at, 'dist-cli'))).toBe(false);
+    const [a, b] = await Promise.all([cliAt(at, ['recipe', '--example']), cliAt(at, ['recipe', '--example'])]);
+    for (const r of [a, b]) {
+      expect(r.stderr).toBe('');
+      expect(r.status).toBe(0);
+      expect(() => parseRecipe(JSON.parse(r.stdout))).not.toThrow();
+    }
+    const manifest = await manifestOf(at);
+    expect(manifest.inputs).toContain('cli/main.ts');
+    // Nothing half-written left behind: every file is an output of the build or the manifest.
+    expect((await readdir(path.join(at, 'dist-cli'))).sort()).toEqual([...manifest.outputs, 'manifest.json'].sort());
+  });
+
+  it('rebuilds a stale bundle: a source newer than the bundle -> the CLI still answers and the bundle is newer', async () => {
+    const at = await checkoutCopy(false);
+    expect((await cliAt(at, ['recipe', '--example'])).status).toBe(0);
+    const before = await manifestOf(at);
+    // Unchanged sources: the bundle is reused as it is.
+    expect((await cliAt(at, ['recipe', '--example'])).status).toBe(0);
+    expect((await manifestOf(at)).builtAt).toBe(before.builtAt);
+
+    const source = path.join(at, 'cli/format.ts');
+    const now = new Date(); // `touch`
+    await utimes(source, now, now);
+    expect(statSync(source).mtimeMs).toBeGreaterThan(before.builtAt);
+    const r = await cliAt(at, ['recipe', '--example']);
+    expect(r.stderr).toBe('');
+    expect(r.status).toBe(0);
+    expect(() => parseRecipe(JSON.parse(r.stdout))).not.toThrow();
+    const after = await manifestOf(at);
+    expect(after.builtAt).toBeGreaterThan(statSync(source).mtimeMs);
+    expect(statSync(path.join(at, 'dist-cli', after.entry)).mtimeMs).toBeGreaterThan(statSync(source).mtimeMs);
+  });
+
+  it('falls back to tsx when the bundle cannot be written', async () => {
+    const at = await checkoutCopy(true);
+    await writeFile(path.join(at, 'dist-cli'), 'a file where the bundle folder would go');
+    const r = await cliAt(at, ['recipe', '--example'], { BLEEDWRIGHT_DEBUG: '1' });
+    expect(r.status).toBe(0);
+    expect(() => parseRecipe(JSON.parse(r.stdout))).not.toThrow();
+    expect(r.stderr).toMatch(/^bleedwright: CLI bundle not built, using tsx: /);
   });
 });
