@@ -1,9 +1,9 @@
 import { spawn } from 'node:child_process';
 import { existsSync, statSync } from 'node:fs';
-import { cp, mkdir, mkdtemp, readdir, readFile, symlink, utimes, writeFile } from 'node:fs/promises';
+import { cp, mkdir, mkdtemp, readdir, readFile, rm, symlink, utimes, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parseRecipe } from '../../shared/recipe.ts';
 import { makeZip, rawRgb, run, svgPng } from './helpers.ts';
 
@@ -175,9 +175,15 @@ describe('the prebuilt CLI bundle (scripts/build-cli.mjs)', () => {
       child.on('close', (code) => resolve({ status: code ?? -1, stdout, stderr }));
     });
 
+  const copies: string[] = [];
+  afterAll(async () => {
+    for (const at of copies) await rm(at, { recursive: true, force: true });
+  });
+
   /** A copy of the CLI's sources in a folder of its own, so its bundle can be removed and made stale. */
   async function checkoutCopy(withTsx: boolean): Promise<string> {
     const at = await mkdtemp(path.join(tmpdir(), 'bw-cli-bundle-'));
+    copies.push(at);
     for (const part of ['bin', 'cli', 'shared', 'jobs/engine', 'scripts/build-cli.mjs', 'tsconfig.json', 'package.json']) {
       await cp(path.join(root, part), path.join(at, part), { recursive: true });
     }
