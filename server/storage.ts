@@ -58,9 +58,12 @@ export const storageKeys = {
   runDir: (workspaceId: string, runId: string) => `ws/${workspaceId}/runs/${runId}`,
 };
 
-/** The render cache's file name: the source bytes' hash plus a short hash of the path (turn rules match names). */
-export function renderCacheName(sourceSha256: string, sourcePath: string): string {
-  return `${sourceSha256}-${createHash('sha256').update(sourcePath).digest('hex').slice(0, 16)}`;
+/**
+ * The render cache's file name: the source bytes' hash, a short hash of the path (turn rules match
+ * names) and the engine tag (renders of another engine version are other files).
+ */
+export function renderCacheName(sourceSha256: string, sourcePath: string, engine: string): string {
+  return `${sourceSha256}-${createHash('sha256').update(sourcePath).digest('hex').slice(0, 16)}-${engine}`;
 }
 
 export function localStorage(root: string): Storage {

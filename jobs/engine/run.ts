@@ -68,6 +68,9 @@ export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: R
 // cached by an older engine are not reused.
 const RENDER_VERSION = 3;
 
+/** Names the engine that makes a render (render version and libvips version): cache entries of another engine are not reused. */
+export const ENGINE_TAG = createHash('sha256').update(JSON.stringify({ v: RENDER_VERSION, vips: sharp.versions.vips })).digest('hex').slice(0, 12);
+
 /**
  * Cache key of one render: the source's fingerprint (entryFingerprint: CRC-32 and sizes, read from a
  * zip's directory without inflating anything), its name (turn rules and the extension check read it),

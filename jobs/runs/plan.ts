@@ -5,7 +5,7 @@ import { isBleedwrightError } from '../../shared/errors.ts';
 import type { Recipe } from '../../shared/recipe.ts';
 import type { RunDiff } from '../../shared/api/runs.ts';
 import type { Finding } from '../../shared/findings.ts';
-import { cardSources, mapLimited } from '../engine/run.ts';
+import { ENGINE_TAG, cardSources, mapLimited } from '../engine/run.ts';
 import { listEntries } from '../../server/db/art-sets.ts';
 import { findCachedMany } from '../../server/db/render-cache.ts';
 import { insertCards, listCards, settleCard } from '../../server/db/run-cards.ts';
@@ -93,7 +93,7 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   const open = cards.filter((c) => c.state === 'pending' || c.state === 'rendering');
   const cached = await findCachedMany(
     rt.db,
-    { workspace_id: run.workspace_id, recipe_version_id: loaded.recipeVersionId },
+    { workspace_id: run.workspace_id, recipe_version_id: loaded.recipeVersionId, engine: ENGINE_TAG },
     open.map((c) => ({ source_sha256: c.source_sha256, source_path: c.source })),
   );
   const hitOf = new Map(cached.map((h) => [`${h.source_sha256}\0${h.source_path}`, h]));

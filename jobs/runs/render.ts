@@ -6,7 +6,7 @@ import path from 'node:path';
 import { isBleedwrightError } from '../../shared/errors.ts';
 import { makeFinding } from '../../shared/findings.ts';
 import { openArtSet, type ArtSet } from '../engine/archive.ts';
-import { renderCard } from '../engine/run.ts';
+import { ENGINE_TAG, renderCard } from '../engine/run.ts';
 import { logRender, upsertCached } from '../../server/db/render-cache.ts';
 import { claimCard, findCard, settleCard } from '../../server/db/run-cards.ts';
 import { renderCacheName, storageKeys } from '../../server/storage.ts';
@@ -56,10 +56,11 @@ export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttemp
   const cacheKey = {
     workspace_id: run.workspace_id,
     recipe_version_id: loaded.recipeVersionId,
+    engine: ENGINE_TAG,
     source_sha256: card.source_sha256,
     source_path: card.source,
   };
-  const key = storageKeys.render(run.workspace_id, loaded.recipeVersionId, renderCacheName(card.source_sha256, card.source));
+  const key = storageKeys.render(run.workspace_id, loaded.recipeVersionId, renderCacheName(card.source_sha256, card.source, ENGINE_TAG));
   // Rendered in this worker's own folder, then moved (or uploaded) into storage.
   const tmp = path.join(rt.config.workDir, 'tmp', `${randomBytes(8).toString('hex')}.png.part`);
   try {

@@ -4,6 +4,7 @@ export interface RenderCacheRow {
   id: string;
   workspace_id: string;
   recipe_version_id: string;
+  engine: string;
   source_sha256: string;
   source_path: string;
   info: unknown;
@@ -11,7 +12,7 @@ export interface RenderCacheRow {
   created_at: Date;
 }
 
-type Key = { workspace_id: string; recipe_version_id: string; source_sha256: string; source_path: string };
+type Key = { workspace_id: string; recipe_version_id: string; engine: string; source_sha256: string; source_path: string };
 
 /**
  * Every cached render of one workspace and recipe version among `sources` (sha256 and path pairs), in
@@ -19,7 +20,7 @@ type Key = { workspace_id: string; recipe_version_id: string; source_sha256: str
  */
 export async function findCachedMany(
   db: Knex,
-  scope: Pick<Key, 'workspace_id' | 'recipe_version_id'>,
+  scope: Pick<Key, 'workspace_id' | 'recipe_version_id' | 'engine'>,
   sources: ReadonlyArray<Pick<Key, 'source_sha256' | 'source_path'>>,
 ): Promise<RenderCacheRow[]> {
   if (sources.length === 0) return [];
@@ -35,7 +36,7 @@ export async function findCachedMany(
 export async function upsertCached(db: Knex, key: Key, info: unknown, storageKey: string | null): Promise<void> {
   await db('render_cache')
     .insert({ ...key, info: JSON.stringify(info), storage_key: storageKey })
-    .onConflict(['workspace_id', 'recipe_version_id', 'source_sha256', 'source_path'])
+    .onConflict(['workspace_id', 'recipe_version_id', 'engine', 'source_sha256', 'source_path'])
     .ignore();
 }
 

@@ -3,6 +3,7 @@
 // its diff names them.
 import { readFile } from 'node:fs/promises';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ENGINE_TAG } from '../../jobs/engine/run.ts';
 import type { RunningServer } from '../../server/server.ts';
 import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
 import { cardPng, cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
@@ -54,5 +55,15 @@ describe('rerun after art fixes', () => {
     expect(third.state).toBe('done');
     expect(await renders(third.id)).toBe(40);
     expect(third.diff).toMatchObject({ previousRunId: second.id, changed: [], unchanged: 40 });
+
+    // Renders cached by another engine (an older render version or libvips) are made again, not reused.
+    const versionId = (await server.deps.db('runs').where({ id: third.id }).first()).recipe_version_id;
+    const stale = await server.deps.db('render_cache').where({ recipe_version_id: versionId }).whereIn('source_path', fixed).update({ engine: 'older-engine' });
+    expect(stale).toBe(3);
+    const fourth = await waitForRun(fx.actors.maker, fx.workspaceId, (await fx.actors.maker.post(`${api}/runs`, { recipeId: recipe.id, artSetId: art.id })).body.run.id);
+    expect(fourth.state).toBe('done');
+    expect(await renders(fourth.id)).toBe(3);
+    expect(fourth.progress).toMatchObject({ total: 40, done: 40, cached: 37 });
+    expect(await server.deps.db('render_cache').where({ recipe_version_id: versionId, engine: ENGINE_TAG })).toHaveLength(40);
   });
 });
