@@ -90,6 +90,28 @@ describe('hostile archives are refused with stable codes', () => {
     expect(await codeOf(openArtSet(path.join(dir, 'nope.zip')))).toBe('SOURCE_NOT_FOUND');
   });
 
+  it('reads stored and deflated entries to the same bytes, and refuses a stored entry whose data was damaged', async () => {
+    const build = (compress: boolean) =>
+      new Promise<Buffer>((resolve, reject) => {
+        const zip = new yazl.ZipFile();
+        zip.addBuffer(png, 'card.png', { compress });
+        zip.end();
+        const chunks: Buffer[] = [];
+        zip.outputStream.on('data', (c: Buffer) => chunks.push(c)).on('end', () => resolve(Buffer.concat(chunks))).on('error', reject);
+      });
+    const stored = await build(false);
+    const stSet = await openArtSet(await zipFile('stored.zip', stored));
+    const dfSet = await openArtSet(await zipFile('deflated.zip', await build(true)));
+    expect(await readEntry(stSet, 'card.png')).toEqual(png);
+    expect(await readEntry(dfSet, 'card.png')).toEqual(png);
+    // Flip one byte inside the stored data (the PNG's own bytes start after the 30-byte local header
+    // and the 8-byte name): the CRC-32 in the directory no longer matches (APPNOTE.TXT 4.4.7).
+    const damaged = Buffer.from(stored);
+    damaged[30 + 'card.png'.length + 40] ^= 0xff;
+    const bad = await openArtSet(await zipFile('damaged.zip', damaged));
+    expect(await codeOf(readEntry(bad, 'card.png'))).toBe('ARCHIVE_UNREADABLE');
+  });
+
   it('never extracts anything: the folder holding the zip gains no files', async () => {
     const before = (await readdir(dir)).sort();
     await codeOf(openArtSet(path.join(dir, 'dotdot.zip')));
