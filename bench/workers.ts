@@ -82,7 +82,6 @@ export function workersBench(root: string, work: string, bossSchema = BOSS_SCHEM
           BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher?.port ?? 4425),
           BLEEDWRIGHT_PUBLIC_URL: server.url,
           BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5',
-          BLEEDWRIGHT_WORKER_CONCURRENCY: '2',
           BLEEDWRIGHT_TMP: path.join(work, 'tmp'),
           LOG_LEVEL: 'warn',
         },
