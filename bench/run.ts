@@ -158,6 +158,14 @@ function mustSucceed(m: Measured, what: string): void {
   if (m.status !== 0) fail(`${what} failed (exit ${m.status}): ${(m.stderr || m.stdout).trim().split('\n').slice(-3).join(' | ')}`);
 }
 
+/**
+ * Flushes what earlier steps left in the page cache (untimed), so no side pays for the disk catching
+ * up with the side before it: each starts with the same clean cache of dirty pages.
+ */
+function settleDisk(): void {
+  spawnSync('sync');
+}
+
 function log(line: string): void {
   process.stdout.write(`${line}\n`);
 }
@@ -172,6 +180,7 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
 
   log(`\n${n} cards`);
   log('  A  bleedwright run (CLI) ...');
+  settleDisk();
   const a = await measure('node', ['bin/bleedwright.js', 'run', zip, '--recipe', recipePath, '--out', out('a')], { cwd: ROOT, env });
   mustSucceed(a, 'A (bleedwright run)');
   const aSingles = await filesBytes(path.join(out('a'), 'cards'));
@@ -183,7 +192,7 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   // PDF assembly on its own, on A's singles: the engine's writer, timed in this process. A's own
   // gigabytes still waiting in the page cache are flushed first (sync), so the time is the assembly's
   // and not the disk catching up with the run before it.
-  spawnSync('sync');
+  settleDisk();
   const pdfCpu = process.cpuUsage();
   const pdfStart = performance.now();
   const assembled = await writeCombinedPdf({
@@ -202,9 +211,11 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   let c: Measured | null = null;
   if (comparisons) {
     log('  B  ImageMagick convert x2 + img2pdf ...');
+    settleDisk();
     b = await measure('bash', ['-c', PIPELINE_B], { cwd: ROOT, env: { ...process.env, IN: dir, OUT: out('b') } });
     mustSucceed(b, 'B (ImageMagick pipeline)');
     log('  C  bare sharp x2 + img2pdf ...');
+    settleDisk();
     c = await measure('bash', ['-c', PIPELINE_C], { cwd: ROOT, env: { ...process.env, IN: dir, OUT: out('c'), COUNT: String(n) } });
     mustSucceed(c, 'C (sharp floor)');
   }
@@ -216,6 +227,7 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   if (fixedZip) {
     log(`  A  rerun with ${RERUN_CHANGED} of ${n} cards changed ...`);
     const rendersBefore = await countRenders(cacheDir);
+    settleDisk();
     const r = await measure('node', ['bin/bleedwright.js', 'run', fixedZip, '--recipe', recipePath, '--out', out('a')], { cwd: ROOT, env });
     mustSucceed(r, 'A rerun');
     // The rerun must have rendered exactly the changed cards (each new render adds one file to the cache).
@@ -227,6 +239,7 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   let aWorkers: (WorkersResult & { msPerCard: number; cpuMsPerCard: number; peakMB: number; overB: number | null; overC: number | null; rerunShare: number | null }) | null = null;
   if (workers) {
     log(`  A  a run on the workers${fixedZip ? ', then a rerun with 5 cards changed' : ''} ...`);
+    settleDisk();
     const w = await workers.run(zip, RECIPE as never, `${n}`, fixedZip);
     if (w.state !== 'done') fail(`A-workers: the run ended ${w.state}`);
     if (w.rerun && w.rerun.state !== 'done') fail(`A-workers: the rerun ended ${w.rerun.state}`);
