@@ -1,22 +1,13 @@
 // Recipes through the API: versions on save, runs pin their version, duplicate, archive, and the
 // 400 VALIDATION answer with dotted field paths a form can show inline.
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { RunningServer } from '../../server/server.ts';
-import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
-import { cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+import { describe, expect, it } from 'vitest';
+import type { WorkspaceFixture } from './fixtures.ts';
+import { cardSet, smallRecipe, useRunsWorkspace, upload, waitForRun, zipOf } from './runs-fixtures.ts';
 import { readFile } from 'node:fs/promises';
 
-let server: RunningServer;
 let fx: WorkspaceFixture;
 let api: string;
-let stop: () => Promise<void>;
-
-beforeAll(async () => {
-  ({ server, stop } = await startRunsServer());
-  fx = await createWorkspaceFixture(server.deps.db, server.url);
-  api = `/api/workspaces/${fx.workspaceId}`;
-});
-afterAll(() => stop?.());
+useRunsWorkspace((w) => ({ fx, api } = w));
 
 describe('recipes', () => {
   it('makes a new version on each changed save and none for an unchanged one', async () => {

@@ -3,23 +3,16 @@
 // succeeds once it is fixed; another workspace reaches none of it.
 import { mkdir, readFile, rm, writeFile } from 'node:fs/promises';
 import path from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import type { RunningServer } from '../../server/server.ts';
 import { storageKeys } from '../../server/storage.ts';
-import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
-import { cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+import type { WorkspaceFixture } from './fixtures.ts';
+import { cardSet, smallRecipe, useRunsWorkspace, upload, waitForRun, zipOf } from './runs-fixtures.ts';
 
 let server: RunningServer;
 let fx: WorkspaceFixture;
 let api: string;
-let stop: () => Promise<void>;
-
-beforeAll(async () => {
-  ({ server, stop } = await startRunsServer());
-  fx = await createWorkspaceFixture(server.deps.db, server.url);
-  api = `/api/workspaces/${fx.workspaceId}`;
-});
-afterAll(() => stop?.());
+useRunsWorkspace((w) => ({ server, fx, api } = w));
 
 async function setup(name: string, files: Record<string, Buffer>, extra = {}) {
   const recipe = (await fx.actors.maker.post(`${api}/recipes`, { settings: smallRecipe(name, extra) })).body.recipe;

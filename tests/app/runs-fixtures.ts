@@ -12,7 +12,8 @@ import type { RecipeInput } from '../../shared/recipe.ts';
 import { startServer, type RunningServer } from '../../server/server.ts';
 import { createLogger } from '../../server/logger.ts';
 import type { RunsConfig } from '../../jobs/runs/runtime.ts';
-import type { Actor, Reply } from './fixtures.ts';
+import { afterAll, beforeAll } from 'vitest';
+import { createWorkspaceFixture, type Actor, type Reply, type WorkspaceFixture } from './fixtures.ts';
 
 /** A recipe that renders fast: poker trim at 100 DPI (275 x 375 px pages). */
 export function smallRecipe(name: string, extra: Partial<RecipeInput> = {}): RecipeInput {
@@ -156,4 +157,26 @@ export async function startWorkerProcess(ctx: { server: RunningServer; storageRo
     child.once('exit', (code) => reject(new Error(`worker exited with ${code}: ${errors}`)));
   });
   return child;
+}
+
+/** A runs server with one workspace of owner, maker and helper, and its API prefix. */
+export interface RunsWorkspace {
+  server: RunningServer;
+  fx: WorkspaceFixture;
+  api: string;
+}
+
+/**
+ * Starts a runs server and a workspace before the file's tests (beforeAll) and stops it after them
+ * (afterAll); `set` receives them, e.g. `useRunsWorkspace((w) => ({ server, fx, api } = w))`.
+ */
+export function useRunsWorkspace(set: (w: RunsWorkspace) => void): void {
+  let stop: (() => Promise<void>) | undefined;
+  beforeAll(async () => {
+    const started = await startRunsServer();
+    stop = started.stop;
+    const fx = await createWorkspaceFixture(started.server.deps.db, started.server.url);
+    set({ server: started.server, fx, api: `/api/workspaces/${fx.workspaceId}` });
+  });
+  afterAll(() => stop?.());
 }

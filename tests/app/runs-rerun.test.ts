@@ -2,23 +2,16 @@
 // exactly those 3 (the rest come from the render cache keyed by source hash and recipe version) and
 // its diff names them.
 import { readFile } from 'node:fs/promises';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { ENGINE_TAG } from '../../jobs/engine/run.ts';
 import type { RunningServer } from '../../server/server.ts';
-import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
-import { cardPng, cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+import type { WorkspaceFixture } from './fixtures.ts';
+import { cardPng, cardSet, smallRecipe, useRunsWorkspace, upload, waitForRun, zipOf } from './runs-fixtures.ts';
 
 let server: RunningServer;
 let fx: WorkspaceFixture;
 let api: string;
-let stop: () => Promise<void>;
-
-beforeAll(async () => {
-  ({ server, stop } = await startRunsServer());
-  fx = await createWorkspaceFixture(server.deps.db, server.url);
-  api = `/api/workspaces/${fx.workspaceId}`;
-});
-afterAll(() => stop?.());
+useRunsWorkspace((w) => ({ server, fx, api } = w));
 
 const renders = async (runId: string) => (await server.deps.db('render_log').where({ run_id: runId })).length;
 

@@ -2,23 +2,16 @@
 // without CSRF or cookies, limited to the member's current role in one workspace, revocable.
 import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import type { RunningServer } from '../../server/server.ts';
 import { upsertMembership } from '../../server/db/memberships.ts';
-import { createUser, Actor, createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
-import { cardSet, smallRecipe, startRunsServer, zipOf } from './runs-fixtures.ts';
+import { createUser, Actor, type WorkspaceFixture } from './fixtures.ts';
+import { cardSet, smallRecipe, useRunsWorkspace, zipOf } from './runs-fixtures.ts';
 
 let server: RunningServer;
 let fx: WorkspaceFixture;
 let api: string;
-let stop: () => Promise<void>;
-
-beforeAll(async () => {
-  ({ server, stop } = await startRunsServer());
-  fx = await createWorkspaceFixture(server.deps.db, server.url);
-  api = `/api/workspaces/${fx.workspaceId}`;
-});
-afterAll(() => stop?.());
+useRunsWorkspace((w) => ({ server, fx, api } = w));
 
 /** A request as a script would send it: the bearer token and nothing else (no cookie, no CSRF token). */
 async function bearer(token: string, method: string, path: string, body?: unknown) {

@@ -2,27 +2,20 @@
 // give the same bytes and no duplicate rows, and a stale attempt must not overwrite a newer result.
 import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { assembleRun } from '../../jobs/runs/assemble.ts';
 import { planRun } from '../../jobs/runs/plan.ts';
 import { renderRunCard } from '../../jobs/runs/render.ts';
 import { runsRuntime } from '../../jobs/runs/runtime.ts';
 import type { RunningServer } from '../../server/server.ts';
 import { storageKeys } from '../../server/storage.ts';
-import { createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
-import { cardSet, smallRecipe, startRunsServer, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+import type { WorkspaceFixture } from './fixtures.ts';
+import { cardSet, smallRecipe, useRunsWorkspace, upload, waitForRun, zipOf } from './runs-fixtures.ts';
 
 let server: RunningServer;
 let fx: WorkspaceFixture;
 let api: string;
-let stop: () => Promise<void>;
-
-beforeAll(async () => {
-  ({ server, stop } = await startRunsServer());
-  fx = await createWorkspaceFixture(server.deps.db, server.url);
-  api = `/api/workspaces/${fx.workspaceId}`;
-});
-afterAll(() => stop?.());
+useRunsWorkspace((w) => ({ server, fx, api } = w));
 
 const sha = async (file: string) => createHash('sha256').update(await readFile(file)).digest('hex');
 
