@@ -13,7 +13,7 @@ import { linkOrCopy } from './file-io.ts';
 import { writeCombinedPdf, type PdfPage } from './pdf.ts';
 import { markDuplicates } from './preflight.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
-import { writeZip } from './zip-writer.ts';
+import { writeZip, ZipTee } from './zip-writer.ts';
 
 export type Progress = { phase: 'cards' | 'pdf' | 'sheets' | 'proof' | 'report' | 'bundle'; done: number; total: number; current?: string };
 
@@ -140,27 +140,28 @@ export async function assembleOutputs(opts: {
 
   const pngOf = (src: string | null) => (src ? (bySource.get(src)?.pngPath ?? null) : null);
   const title = recipe.name;
-  let pdfName: string | null = null;
-  let pages = 0;
-  // The combined PDF is written while sheets, proof, report and the bundle's singles are made: it is
-  // mostly waiting on the disk, and the bundle needs it only for its own entry, after the singles.
-  let pdfTask: Promise<unknown> | null = null;
-  if (recipe.outputs.pdf && fronts.length > 0) {
+  const singles = [...outputsBySource.values()].flat();
+  const slug = slugify(recipe.name);
+  const pdfName = recipe.outputs.pdf && fronts.length > 0 ? `${RESERVED_PDF_NAMES.has(slug) ? `${slug}-deck` : slug}.pdf` : null;
+  const sheetsName = recipe.outputs.sheets && plan.faces > 0 ? `sheets-${recipe.outputs.sheets.paper}.pdf` : null;
+  const proofName = recipe.outputs.proof && cards.some((c) => c.pngPath) ? 'proof.pdf' : null;
+  const pages = pdfName ? plan.slots.length : 0;
+
+  // The combined PDF, the bundle, and then sheets, proof and report run at once: the first two are
+  // mostly waiting on the disk. The bundle copies the singles while the PDF is written, and the PDF's
+  // bytes go into the bundle as they are written (a ZipTee), so the PDF is never read back.
+  const tee = pdfName ? new ZipTee() : null;
+  let pdfTask: Promise<unknown> = Promise.resolve();
+  if (pdfName) {
     onProgress?.({ phase: 'pdf', done: 0, total: 1 });
-    const slug = slugify(recipe.name);
-    pdfName = `${RESERVED_PDF_NAMES.has(slug) ? `${slug}-deck` : slug}.pdf`;
     const pdfPages: PdfPage[] = plan.slots.map((s) => (s.source ? { kind: 'card', pngPath: pngOf(s.source)! } : { kind: 'blank' }));
-    pages = pdfPages.length;
-    pdfTask = writeCombinedPdf({ pages: pdfPages, pagePt: geo.pagePt, bleedPt: geo.bleedPt, title, outPath: inside(outDir, pdfName) }).then(() =>
+    pdfTask = writeCombinedPdf({ pages: pdfPages, pagePt: geo.pagePt, bleedPt: geo.bleedPt, title, outPath: inside(outDir, pdfName), mirror: tee }).then(() =>
       onProgress?.({ phase: 'pdf', done: 1, total: 1 }),
     );
-    // Awaited below; this handler only keeps a failure that comes before then from being "unhandled".
-    pdfTask.catch(() => undefined);
   }
-  try {
-    let sheetsName: string | null = null;
+  const restTask = (async (): Promise<RunReport> => {
     let sheetCount = 0;
-    if (recipe.outputs.sheets && plan.faces > 0) {
+    if (sheetsName) {
       onProgress?.({ phase: 'sheets', done: 0, total: 1 });
       // Faces in deck order with the back each one needs; common backs placed first/last are not faces.
       const faceFronts: Array<string | null> = [];
@@ -178,14 +179,13 @@ export async function assembleOutputs(opts: {
           faceBacks.push(pngOf(commonBack));
         }
       }
-      sheetsName = `sheets-${recipe.outputs.sheets.paper}.pdf`;
       // Sheets and proof load the PDF library only when a recipe asks for them (it takes a while to load).
       const { writeImposedSheets } = await import('./sheets.ts');
       const written = await writeImposedSheets({
         fronts: faceFronts,
         backs: faceBacks,
-        paper: recipe.outputs.sheets.paper,
-        marks: recipe.outputs.sheets.marks,
+        paper: recipe.outputs.sheets!.paper,
+        marks: recipe.outputs.sheets!.marks,
         trimIn: geo.trimIn,
         bleedIn: geo.bleedIn,
         title,
@@ -200,18 +200,17 @@ export async function assembleOutputs(opts: {
     for (const s of plan.slots) if (s.source && !s.padding) copiesOf.set(`${s.kind}:${s.source}`, (copiesOf.get(`${s.kind}:${s.source}`) ?? 0) + 1);
     const reportCards = cards.map((c) => reportCardOf(c, outputsBySource.get(c.source) ?? [], copiesOf.get(`${c.role}:${c.source}`) ?? 0));
 
-    let proofName: string | null = null;
-    const proofCards = reportCards.filter((c) => c.state === 'done');
-    if (recipe.outputs.proof && proofCards.length > 0) {
+    if (proofName) {
       onProgress?.({ phase: 'proof', done: 0, total: 1 });
-      proofName = 'proof.pdf';
       const { writeProof } = await import('./proof.ts');
       await writeProof({
-        cards: proofCards.map((c) => ({
-          pngPath: pngOf(c.source)!,
-          name: c.outputs[0]?.replace(/^cards\//, '') ?? c.source,
-          findings: c.findings.map((f) => ({ code: f.code, severity: f.severity })),
-        })),
+        cards: reportCards
+          .filter((c) => c.state === 'done')
+          .map((c) => ({
+            pngPath: pngOf(c.source)!,
+            name: c.outputs[0]?.replace(/^cards\//, '') ?? c.source,
+            findings: c.findings.map((f) => ({ code: f.code, severity: f.severity })),
+          })),
         trimIn: geo.trimIn,
         bleedIn: geo.bleedIn,
         safeIn: geo.safeIn,
@@ -227,7 +226,7 @@ export async function assembleOutputs(opts: {
       geometry: { pagePx: geo.pagePx, trimPx: geo.trimPx, dpi: geo.dpi, pagePt: geo.pagePt, trimBoxPt: geo.trimBoxPt, bleedPt: geo.bleedPt },
       cards: reportCards,
       skippedFiles: [...opts.skippedFiles],
-      outputs: { singles: [...outputsBySource.values()].reduce((n, l) => n + l.length, 0), pdf: pdfName, sheets: sheetsName, proof: proofName, bundle: 'bundle.zip' },
+      outputs: { singles: singles.length, pdf: pdfName, sheets: sheetsName, proof: proofName, bundle: 'bundle.zip' },
       totals: {
         cards: reportCards.filter((c) => c.role === 'front' && c.state === 'done').length,
         cardsSkipped: reportCards.filter((c) => c.state === 'skipped').length,
@@ -240,21 +239,23 @@ export async function assembleOutputs(opts: {
     };
     onProgress?.({ phase: 'report', done: 0, total: 1 });
     await writeReports(report, inside(outDir, 'report.json'), inside(outDir, 'report.csv'));
-
-    onProgress?.({ phase: 'bundle', done: 0, total: 1 });
-    await writeBundle(
-      outDir,
-      [...[...outputsBySource.values()].flat(), ...[pdfName, sheetsName, proofName].filter((n): n is string => n !== null), 'report.json', 'report.csv'],
-      pdfName && pdfTask ? { [pdfName]: pdfTask } : {},
-    );
-    await pdfTask;
-    onProgress?.({ phase: 'bundle', done: 1, total: 1 });
     return report;
-  } catch (err) {
-    // Not leaving the PDF writer running on a folder the caller is about to clean up.
-    await pdfTask?.catch(() => undefined);
-    throw err;
-  }
+  })();
+
+  onProgress?.({ phase: 'bundle', done: 0, total: 1 });
+  const later = [sheetsName, proofName, 'report.json', 'report.csv'].filter((n): n is string => n !== null);
+  const bundleTask = writeBundle(
+    outDir,
+    [...singles, ...(pdfName ? [pdfName] : []), ...later],
+    Object.fromEntries([...(pdfName ? [[pdfName, pdfTask]] : []), ...later.map((n) => [n, restTask])]),
+    tee && pdfName ? { [pdfName]: tee } : {},
+  );
+  // Every task is finished before this returns or throws: none is left writing into a folder the
+  // caller may be about to clean up.
+  const [pdfDone, rest, bundle] = await Promise.allSettled([pdfTask, restTask, bundleTask]);
+  for (const r of [pdfDone, rest, bundle]) if (r.status === 'rejected') throw r.reason;
+  onProgress?.({ phase: 'bundle', done: 1, total: 1 });
+  return (rest as PromiseFulfilledResult<RunReport>).value;
 }
 
 // A fixed time stamp for every bundle entry, so the same outputs always make the same zip bytes.
@@ -263,13 +264,21 @@ const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
 /**
  * Zips the listed files (paths relative to outDir) into outDir/bundle.zip. `pending` maps a file still
  * being written to the promise of its completion; the bundle waits for it when it reaches that entry.
+ * `tees` maps a file to the ZipTee its writer also writes to (at most one; see ZipTee).
  */
-export async function writeBundle(outDir: string, files: readonly string[], pending: Readonly<Record<string, Promise<unknown>>> = {}): Promise<void> {
+export async function writeBundle(
+  outDir: string,
+  files: readonly string[],
+  pending: Readonly<Record<string, Promise<unknown>>> = {},
+  tees: Readonly<Record<string, ZipTee>> = {},
+): Promise<void> {
   const target = inside(outDir, 'bundle.zip');
-  const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel), ready: pending[rel] }));
   try {
+    const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel), ready: pending[rel], tee: tees[rel] }));
     await writeZip(`${target}.tmp`, entries, BUNDLE_MTIME);
   } catch (err) {
+    // A writer waiting to learn where its tee goes must not wait for ever.
+    for (const tee of Object.values(tees)) tee.drop();
     await rm(`${target}.tmp`, { force: true });
     throw err;
   }

@@ -50,10 +50,19 @@ export class FileSink {
   private staged = 0;
   private readonly stage = Buffer.allocUnsafe(64 * 1024);
 
-  private constructor(private readonly fh: FileHandle) {}
+  private constructor(
+    private readonly fh: FileHandle,
+    private readonly mirror: ByteMirror | null,
+  ) {}
 
-  static async create(file: string): Promise<FileSink> {
-    return new FileSink(await open(file, 'w'));
+  /** With `mirror`, every byte written also goes to it, in order, from the same Buffers (see ByteMirror). */
+  static async create(file: string, mirror: ByteMirror | null = null): Promise<FileSink> {
+    return new FileSink(await open(file, 'w'), mirror);
+  }
+
+  /** The open file, for positioned writes into a part of it this sink skips (see `skip`). */
+  get handle(): FileHandle {
+    return this.fh;
   }
 
   /** Bytes handed to the sink so far (the offset the next write lands at). */
@@ -74,16 +83,16 @@ export class FileSink {
   async writev(buffers: readonly Buffer[]): Promise<void> {
     const list = this.staged > 0 ? [Buffer.from(this.stage.subarray(0, this.staged)), ...buffers] : [...buffers];
     this.staged = 0;
-    let total = 0;
-    for (const b of list) total += b.length;
-    let done = 0;
-    while (done < total) {
-      // writev may write less than asked; go on from where it stopped.
-      const { bytesWritten } = await this.fh.writev(skipBytes(list, done), this.position + done);
-      if (bytesWritten === 0) throw new Error('the disk accepted no bytes');
-      done += bytesWritten;
-    }
-    this.position += total;
+    const at = this.position;
+    for (const b of list) this.position += b.length;
+    if (this.mirror && list.length) await Promise.all([writevAll(this.fh, list, at), this.mirror.write(list)]);
+    else await writevAll(this.fh, list, at);
+  }
+
+  /** Leaves the next `bytes` bytes of the file to another writer (positioned writes on `handle`). */
+  async skip(bytes: number): Promise<void> {
+    await this.writev([]);
+    this.position += bytes;
   }
 
   async close(): Promise<void> {
@@ -98,6 +107,26 @@ export class FileSink {
   async abort(): Promise<void> {
     this.staged = 0;
     await this.fh.close().catch(() => undefined);
+  }
+}
+
+/**
+ * Receives a copy of every byte a FileSink writes, in order, as the same Buffers (keep none of them:
+ * they may be reused once the returned promise settles). One call at a time.
+ */
+export interface ByteMirror {
+  write(buffers: readonly Buffer[]): Promise<void>;
+}
+
+/** Writes all of `buffers` at `position`: writev may write less than asked, so it goes on from where it stopped. */
+export async function writevAll(fh: FileHandle, buffers: readonly Buffer[], position: number): Promise<void> {
+  let total = 0;
+  for (const b of buffers) total += b.length;
+  let done = 0;
+  while (done < total) {
+    const { bytesWritten } = await fh.writev(skipBytes(buffers, done), position + done);
+    if (bytesWritten === 0) throw new Error('the disk accepted no bytes');
+    done += bytesWritten;
   }
 }
 

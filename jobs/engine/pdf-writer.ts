@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { FileSink } from './file-io.ts';
+import { FileSink, type ByteMirror } from './file-io.ts';
 
 /**
  * A minimal streaming PDF file writer (ISO 32000-1 7.5: header, body, xref table, trailer). Objects go
@@ -14,10 +14,14 @@ export class PdfStreamWriter {
   // Hash of every byte written: gives a file /ID that depends only on the content, so reruns match.
   private readonly digest = createHash('md5');
 
-  constructor(private readonly filePath: string) {}
+  /** With `mirror`, the file's bytes also go to it as they are written (e.g. into a bundle, see ZipTee). */
+  constructor(
+    private readonly filePath: string,
+    private readonly mirror: ByteMirror | null = null,
+  ) {}
 
   async start(): Promise<void> {
-    this.sink = await FileSink.create(this.filePath);
+    this.sink = await FileSink.create(this.filePath, this.mirror);
     // The comment line with bytes above 127 tells transfer tools the file is binary (7.5.2).
     await this.write(Buffer.concat([Buffer.from('%PDF-1.4\n%'), Buffer.from([0xe2, 0xe3, 0xcf, 0xd3]), Buffer.from('\n')]));
   }

@@ -1,5 +1,5 @@
 import { rename, rm, stat } from 'node:fs/promises';
-import { ReusedReader } from './file-io.ts';
+import { ReusedReader, type ByteMirror } from './file-io.ts';
 import { readPngForPdf } from './png-chunks.ts';
 import { PdfEngineError } from './pdf-errors.ts';
 import { PdfStreamWriter, pdfNum, pdfTextString } from './pdf-writer.ts';
@@ -25,6 +25,8 @@ export async function writeCombinedPdf(opts: {
   bleedPt: number;
   title: string;
   outPath: string;
+  /** Also receives the PDF's bytes as they are written (the bundle's copy of it, see ZipTee). */
+  mirror?: ByteMirror | null;
 }): Promise<{ pages: number; bytes: number }> {
   const { pages, pagePt, bleedPt, title, outPath } = opts;
   if (pages.length === 0) throw new PdfEngineError('PDF_NO_PAGES', 'there are no cards to put in the PDF.');
@@ -36,7 +38,7 @@ export async function writeCombinedPdf(opts: {
   }
 
   const tmpPath = `${outPath}.tmp`;
-  const writer = new PdfStreamWriter(tmpPath);
+  const writer = new PdfStreamWriter(tmpPath, opts.mirror ?? null);
   try {
     await writer.start();
     const catalogNum = writer.allocate();

@@ -4,9 +4,11 @@
 // yazl's JavaScript CRC needed seconds for). Stored files are read once: copied out in large pieces
 // through two reused buffers (one is read while the other is written) while their CRC is taken, which
 // then follows in a data descriptor (APPNOTE 4.3.9); nothing is held in memory whole.
-import { open, readFile } from 'node:fs/promises';
+// One stored entry can be teed (ZipTee): its bytes are written into the zip by the task producing the
+// file, at an offset worked out in advance, so a large file (the combined PDF) is never read back.
+import { open, readFile, stat, type FileHandle } from 'node:fs/promises';
 import { crc32, deflateRawSync } from 'node:zlib';
-import { FileSink } from './file-io.ts';
+import { FileSink, writevAll, type ByteMirror } from './file-io.ts';
 
 export type ZipFileEntry = {
   /** Path of the file on disk. */
@@ -17,7 +19,52 @@ export type ZipFileEntry = {
   compress: boolean;
   /** Settles when `file` is complete (a file still being written by another task); awaited before it is read. */
   ready?: Promise<unknown>;
+  /** The file's bytes arrive through this tee while it is written (stored entries only; at most one per zip). */
+  tee?: ZipTee;
 };
+
+/**
+ * Puts a file's bytes into the zip while another task writes the file: give it as that writer's
+ * ByteMirror and as the entry's `tee`. writeZip places it when every entry before it is a stored file
+ * that already exists (their sizes then fix where its data starts); otherwise, or when the file turns
+ * out to need Zip64 sizes, the tee drops the bytes and writeZip copies the finished file as usual.
+ * The zip's bytes are the same either way.
+ */
+export class ZipTee implements ByteMirror {
+  crc = 0;
+  size = 0;
+  private target: { fh: FileHandle; at: number } | null = null;
+  private dropped = false;
+  private settle!: (placed: boolean) => void;
+  private readonly placed = new Promise<boolean>((resolve) => (this.settle = resolve));
+
+  /** Called by writeZip: the data starts at byte `at` of the zip open on `fh`; null drops the bytes. */
+  place(target: { fh: FileHandle; at: number } | null): void {
+    this.target = target;
+    this.settle(target !== null);
+  }
+
+  /** Drops whatever comes next (the zip failed or was closed). */
+  drop(): void {
+    this.dropped = true;
+    this.settle(false);
+  }
+
+  /** True when every byte so far went into the zip. */
+  get complete(): boolean {
+    return this.target !== null && !this.dropped;
+  }
+
+  async write(buffers: readonly Buffer[]): Promise<void> {
+    if (!(await this.placed) || this.dropped || !this.target) return;
+    const at = this.target.at + this.size;
+    for (const b of buffers) {
+      this.crc = crc32(b, this.crc);
+      this.size += b.length;
+    }
+    await writevAll(this.target.fh, buffers, at);
+  }
+}
 
 const U32 = 0xffffffff;
 const U16 = 0xffff;
@@ -36,6 +83,12 @@ function dosDateTime(d: Date): { date: number; time: number } {
 }
 
 type Written = { name: Buffer; crc: number; size: number; compressedSize: number; offset: number; method: number; descriptor: boolean };
+
+/** Bytes a stored entry with a data descriptor takes in the zip: local header, data, descriptor. */
+function storedSpan(name: Buffer, size: number): number {
+  const zip64 = size >= U32;
+  return 30 + name.length + (zip64 ? 20 : 0) + size + (zip64 ? 24 : 16);
+}
 
 /** With a data descriptor, CRC and sizes are 0 here (APPNOTE 4.4.4); a Zip64 entry says so with its extra field. */
 function localHeader(e: Written, stamp: { date: number; time: number }): Buffer {
@@ -143,16 +196,46 @@ function endRecords(count: number, cdOffset: number, cdSize: number): Buffer {
 /** Writes `entries` in order into a zip at `target`; every entry gets the time stamp `mtime`. */
 export async function writeZip(target: string, entries: readonly ZipFileEntry[], mtime: Date): Promise<void> {
   const stamp = dosDateTime(mtime);
-  const out = await FileSink.create(target);
+  const tees = entries.filter((e) => e.tee);
+  if (tees.length > 1) throw new Error('a zip takes at most one teed entry');
+  const teeIndex = entries.findIndex((e) => e.tee);
+  const tee = teeIndex >= 0 ? entries[teeIndex]!.tee! : null;
+  let out: FileSink;
+  try {
+    out = await FileSink.create(target);
+  } catch (err) {
+    tee?.drop();
+    throw err;
+  }
   const written: Written[] = [];
   // Two copy buffers, allocated once for the whole zip: one is filled while the other is written.
   const buffers = [Buffer.allocUnsafe(COPY_CHUNK), Buffer.allocUnsafe(COPY_CHUNK)] as const;
+  // Where the teed entry's local header goes, when the entries before it allow placing it now.
+  let teeOffset = -1;
   try {
+    if (tee) {
+      const before = entries.slice(0, teeIndex);
+      if (before.every((e) => !e.compress && e.ready === undefined)) {
+        const sizes = await Promise.all(before.map(async (e) => (await stat(e.file)).size));
+        teeOffset = before.reduce((at, e, i) => at + storedSpan(Buffer.from(e.name, 'utf8'), sizes[i]!), 0);
+        const header = localHeader({ name: Buffer.from(entries[teeIndex]!.name, 'utf8'), crc: 0, size: 0, compressedSize: 0, offset: teeOffset, method: 0, descriptor: true }, stamp);
+        tee.place({ fh: out.handle, at: teeOffset + header.length });
+      } else {
+        tee.place(null);
+      }
+    }
     for (const entry of entries) {
       await entry.ready;
       const name = Buffer.from(entry.name, 'utf8');
       const offset = out.offset;
-      if (entry.compress) {
+      if (entry.tee && entry.tee.complete && offset === teeOffset && entry.tee.size < U32 && (await stat(entry.file)).size === entry.tee.size) {
+        // The data is in place already (see ZipTee): header, skip the data, descriptor.
+        const e = { name, crc: entry.tee.crc, size: entry.tee.size, compressedSize: entry.tee.size, offset, method: 0, descriptor: true };
+        await out.write(localHeader(e, stamp));
+        await out.skip(e.size);
+        await out.write(dataDescriptor(e));
+        written.push(e);
+      } else if (entry.compress) {
         const data = await readFile(entry.file);
         const deflated = deflateRawSync(data);
         const e = { name, crc: crc32(data), size: data.length, compressedSize: deflated.length, offset, method: 8, descriptor: false };
@@ -191,6 +274,7 @@ export async function writeZip(target: string, entries: readonly ZipFileEntry[],
     await out.write(endRecords(written.length, cdOffset, out.offset - cdOffset));
     await out.close();
   } catch (err) {
+    tee?.drop();
     await out.abort();
     throw err;
   }
