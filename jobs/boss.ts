@@ -24,6 +24,11 @@ export interface Queue {
   boss: PgBoss;
   /** Sends a job and returns its id; throws when pg-boss drops it (missing queue or singleton). */
   send(name: QueueName, data: object, options?: PgBoss.SendOptions): Promise<string>;
+  /**
+   * Sends a job and wakes this process's workers of that queue at once; null when pg-boss drops it as a
+   * duplicate (singletonKey). Workers in other processes still find it at their next poll.
+   */
+  offer(name: string, data: object, options?: PgBoss.SendOptions): Promise<string | null>;
   /** True when the queue tables answer. */
   healthy(): Promise<boolean>;
   stop(): Promise<void>;
@@ -47,6 +52,8 @@ export async function startQueue(opts: {
   const boss = new PgBoss({ max: 4, schema: 'pgboss', ...opts.bossOptions, connectionString: opts.databaseUrl });
   boss.on('error', opts.onError ?? ((err) => console.error('pg-boss error', err)));
   await boss.start();
+  // Worker ids by queue, for waking this process's workers when a job is sent from here.
+  const local = new Map<string, string[]>();
   for (const job of jobs) {
     const { name: _name, ...queueOptions } = job.options;
     await boss.createQueue(job.name, { name: job.name, ...queueOptions });
@@ -63,6 +70,7 @@ export async function startQueue(opts: {
           if (jobs.length > 0 && workerId) boss.notifyWorker(workerId);
         }
       });
+      local.set(job.name, [...(local.get(job.name) ?? []), workerId]);
     }
   }
   return {
@@ -70,6 +78,14 @@ export async function startQueue(opts: {
     async send(name, data, options = {}) {
       const id = await boss.send(name, data, options);
       if (!id) throw new Error(`Queue "${name}" did not accept the job (missing queue or duplicate singleton)`);
+      return id;
+    },
+    async offer(name, data, options = {}) {
+      const id = await boss.send(name, data, options);
+      // pg-boss 10 only polls: without this, a job sent to an idle queue waits up to a polling interval
+      // even when this very process works that queue (plan -> renders -> assemble crosses it 3 times).
+      // A worker already busy just fetches again when it finishes; an idle one without a job fetches nothing.
+      if (id) for (const workerId of local.get(name) ?? []) boss.notifyWorker(workerId);
       return id;
     },
     async healthy() {

@@ -43,7 +43,7 @@ installRunsRuntime({
   mailer,
   publicUrl: () => process.env.BLEEDWRIGHT_PUBLIC_URL ?? `http://127.0.0.1:${process.env.PORT ?? 4400}`,
   logger,
-  send: (name, data, options = {}) => queue!.boss.send(name, data, options),
+  send: (name, data, options = {}) => queue!.offer(name, data, options),
 });
 queue = await startQueue({
   databaseUrl,

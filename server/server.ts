@@ -69,7 +69,7 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
   let queueRef: Queue | null = null;
   const send = async (name: string, data: object, options: Record<string, unknown> = {}) => {
     if (!queueRef) throw new Error('The job queue is not started yet');
-    return queueRef.boss.send(name, data, options);
+    return queueRef.offer(name, data, options);
   };
   let publicUrl = opts.publicUrl ?? '';
   // The run jobs read this runtime; installed before pg-boss starts working queues in this process.
