@@ -8,7 +8,7 @@ import path from 'node:path';
 import type { OutputKind, RunOutput, RunTotals } from '../../shared/api/runs.ts';
 import { slugify } from '../../shared/naming.ts';
 import { assembleOutputs, mapLimited, type RenderedCard } from '../engine/run.ts';
-import { countCards, listCards, setCardFindings } from '../../server/db/run-cards.ts';
+import { countCards, listCards, setCardsFindings } from '../../server/db/run-cards.ts';
 import { transitionRun } from '../../server/db/runs.ts';
 import { storageKeys } from '../../server/storage.ts';
 import { finishRunFailed, mailRunEnded } from './finish.ts';
@@ -69,13 +69,14 @@ export async function assembleRun(rt: RunsRuntime, runId: string): Promise<void>
       outputs.push({ name: f.name, kind: f.kind, bytes });
     }
     const byId = new Map(cards.map((c) => [`${c.role}:${c.source}`, c.id]));
-    // One transaction for every card's final findings: one commit, not one per card.
-    await rt.db.transaction(async (trx) => {
-      for (const rc of report.cards) {
+    // One statement for every card's final findings, not one round trip per card.
+    await setCardsFindings(
+      rt.db,
+      report.cards.flatMap((rc) => {
         const id = byId.get(`${rc.role}:${rc.source}`);
-        if (id) await setCardFindings(trx, id, rc.findings, rc.outputs);
-      }
-    });
+        return id ? [{ id, findings: rc.findings, outputs: rc.outputs }] : [];
+      }),
+    );
     const totals: RunTotals = {
       cards: report.totals.cards,
       pages: report.totals.pages,

@@ -79,13 +79,38 @@ export async function settleCard(
   return count > 0;
 }
 
+/**
+ * settleCard for many cards in one statement (a rerun settles most cards from the cache): each row is
+ * settled unless it is already settled. Returns how many were.
+ */
+export async function settleCards(
+  db: Knex,
+  rows: ReadonlyArray<{ id: string } & Pick<RunCardRow, 'state' | 'cached' | 'outputs' | 'info' | 'findings'>>,
+): Promise<number> {
+  if (rows.length === 0) return 0;
+  const result = await db.raw(
+    `update run_cards c set state = v.state, cached = v.cached, outputs = v.outputs, info = v.info, findings = v.findings, finished_at = now()
+       from jsonb_to_recordset(?::jsonb) as v(id uuid, state text, cached boolean, outputs jsonb, info jsonb, findings jsonb)
+      where c.id = v.id and c.state in ('pending', 'rendering')`,
+    [JSON.stringify(rows.map((r) => ({ id: r.id, state: r.state, cached: r.cached, outputs: r.outputs, info: r.info, findings: r.findings })))],
+  );
+  return result.rowCount ?? 0;
+}
+
+/** Sets the final findings and output names of many cards in one statement (assembly). */
+export async function setCardsFindings(db: Knex, rows: ReadonlyArray<{ id: string; findings: Finding[]; outputs: string[] }>): Promise<void> {
+  if (rows.length === 0) return;
+  await db.raw(
+    `update run_cards c set findings = v.findings, outputs = v.outputs
+       from jsonb_to_recordset(?::jsonb) as v(id uuid, findings jsonb, outputs jsonb)
+      where c.id = v.id`,
+    [JSON.stringify(rows)],
+  );
+}
+
 /** Marks every unsettled card of a canceled run as canceled. */
 export async function cancelOpenCards(db: Knex, runId: string): Promise<void> {
   await db('run_cards').where({ run_id: runId }).whereIn('state', ['pending']).update({ state: 'canceled', finished_at: db.fn.now() });
-}
-
-export async function setCardFindings(db: Knex, id: string, findings: Finding[], outputs: string[]): Promise<void> {
-  await db('run_cards').where({ id }).update({ findings: JSON.stringify(findings), outputs: JSON.stringify(outputs) });
 }
 
 /** Progress counted from the card rows (never added up blindly, so retries cannot double count). */
