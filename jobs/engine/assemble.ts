@@ -13,7 +13,7 @@ import { linkOrCopy } from './file-io.ts';
 import { writeCombinedPdf, type PdfPage } from './pdf.ts';
 import { markDuplicates } from './preflight.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
-import { writeZip, ZipTee } from './zip-writer.ts';
+import { writeZip, ZipPlacer, ZipTee } from './zip-writer.ts';
 
 export type Progress = { phase: 'cards' | 'pdf' | 'sheets' | 'proof' | 'report' | 'bundle'; done: number; total: number; current?: string };
 
@@ -150,14 +150,32 @@ export async function assembleOutputs(opts: {
   // The combined PDF, the bundle, and then sheets, proof and report run at once: the first two are
   // mostly waiting on the disk. The bundle copies the singles while the PDF is written, and the PDF's
   // bytes go into the bundle as they are written (a ZipTee), so the PDF is never read back.
+  // The PDF writer reads every card PNG whole; a PNG single's bundle entry is written from that read
+  // (a ZipPlacer) instead of reading the file again.
   const tee = pdfName ? new ZipTee() : null;
   let pdfTask: Promise<unknown> = Promise.resolve();
+  let placer: ZipPlacer | null = null;
   if (pdfName) {
     onProgress?.({ phase: 'pdf', done: 0, total: 1 });
     const pdfPages: PdfPage[] = plan.slots.map((s) => (s.source ? { kind: 'card', pngPath: pngOf(s.source)! } : { kind: 'blank' }));
-    pdfTask = writeCombinedPdf({ pages: pdfPages, pagePt: geo.pagePt, bleedPt: geo.bleedPt, title, outPath: inside(outDir, pdfName), mirror: tee }).then(() =>
-      onProgress?.({ phase: 'pdf', done: 1, total: 1 }),
-    );
+    // Singles are hard links or copies of the renders: the bundle's entry of a single is keyed by the render it came from.
+    const singleOf = new Map<string, string[]>();
+    if (recipe.outputs.singles === 'png') {
+      for (const [source, outs] of outputsBySource) singleOf.set(pngOf(source)!, outs.map((o) => inside(outDir, o)));
+    }
+    let settlePdf!: (p: Promise<unknown>) => void;
+    const p = singleOf.size ? new ZipPlacer(new Promise<unknown>((resolve) => (settlePdf = resolve))) : null;
+    placer = p;
+    pdfTask = writeCombinedPdf({
+      pages: pdfPages,
+      pagePt: geo.pagePt,
+      bleedPt: geo.bleedPt,
+      title,
+      outPath: inside(outDir, pdfName),
+      mirror: tee,
+      onPngFile: p ? async (png, file) => void (await Promise.all((singleOf.get(png) ?? []).map((single) => p.put(single, file)))) : null,
+    }).then(() => onProgress?.({ phase: 'pdf', done: 1, total: 1 }));
+    if (p) settlePdf(pdfTask);
   }
   const restTask = (async (): Promise<RunReport> => {
     let sheetCount = 0;
@@ -249,6 +267,7 @@ export async function assembleOutputs(opts: {
     [...singles, ...(pdfName ? [pdfName] : []), ...later],
     Object.fromEntries([...(pdfName ? [[pdfName, pdfTask]] : []), ...later.map((n) => [n, restTask])]),
     tee && pdfName ? { [pdfName]: tee } : {},
+    placer,
   );
   // Every task is finished before this returns or throws: none is left writing into a folder the
   // caller may be about to clean up.
@@ -264,21 +283,24 @@ const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
 /**
  * Zips the listed files (paths relative to outDir) into outDir/bundle.zip. `pending` maps a file still
  * being written to the promise of its completion; the bundle waits for it when it reaches that entry.
- * `tees` maps a file to the ZipTee its writer also writes to (at most one; see ZipTee).
+ * `tees` maps a file to the ZipTee its writer also writes to (at most one; see ZipTee); `placer` puts
+ * stored files' data from Buffers another writer holds (see ZipPlacer).
  */
 export async function writeBundle(
   outDir: string,
   files: readonly string[],
   pending: Readonly<Record<string, Promise<unknown>>> = {},
   tees: Readonly<Record<string, ZipTee>> = {},
+  placer: ZipPlacer | null = null,
 ): Promise<void> {
   const target = inside(outDir, 'bundle.zip');
   try {
     const entries = files.map((rel) => ({ file: inside(outDir, rel), name: rel, compress: !/\.(png|jpe?g|pdf)$/i.test(rel), ready: pending[rel], tee: tees[rel] }));
-    await writeZip(`${target}.tmp`, entries, BUNDLE_MTIME);
+    await writeZip(`${target}.tmp`, entries, BUNDLE_MTIME, placer);
   } catch (err) {
     // A writer waiting to learn where its tee goes must not wait for ever.
     for (const tee of Object.values(tees)) tee.drop();
+    placer?.drop();
     await rm(`${target}.tmp`, { force: true });
     throw err;
   }

@@ -27,6 +27,11 @@ export async function writeCombinedPdf(opts: {
   outPath: string;
   /** Also receives the PDF's bytes as they are written (the bundle's copy of it, see ZipTee). */
   mirror?: ByteMirror | null;
+  /**
+   * Called with each card PNG's whole file as it is read (once per distinct file), while its image is
+   * written: the bundle puts its singles' data from it (ZipPlacer). The Buffer is valid until this settles.
+   */
+  onPngFile?: ((pngPath: string, file: Buffer) => Promise<void>) | null;
 }): Promise<{ pages: number; bytes: number }> {
   const { pages, pagePt, bleedPt, title, outPath } = opts;
   if (pages.length === 0) throw new PdfEngineError('PDF_NO_PAGES', 'there are no cards to put in the PDF.');
@@ -74,7 +79,8 @@ export async function writeCombinedPdf(opts: {
         if (imageNum === undefined) {
           const png = await readPngForPdf(page.pngPath, reader);
           imageNum = writer.allocate();
-          await writer.writeStream(
+          const placing = opts.onPngFile?.(page.pngPath, png.file);
+          const writing = writer.writeStream(
             imageNum,
             `/Type /XObject /Subtype /Image /Width ${png.width} /Height ${png.height} /ColorSpace /DeviceRGB ` +
               `/BitsPerComponent 8 /Filter /FlateDecode ` +
@@ -82,6 +88,7 @@ export async function writeCombinedPdf(opts: {
             png.idat,
             `png ${png.width}x${png.height} ${png.idatBytes} ${png.idatCrcs.join(',')}`,
           );
+          await Promise.all([writing, placing]);
           imageNums.set(page.pngPath, imageNum);
         }
         if (!cardContentNum) {

@@ -13,6 +13,8 @@ export type PngForPdf = {
   idatBytes: number;
   /** The IDAT chunks' own CRC-32s in order: a cheap fingerprint of the image data. */
   idatCrcs: number[];
+  /** The whole file as read (a view of the reader's buffer when one is used). */
+  file: Buffer;
 };
 
 const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
@@ -93,5 +95,5 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
   if (!sawHeader || !sawEnd || idatBytes === 0) {
     throw new PdfEngineError('PDF_IMAGE_TRUNCATED', `card image "${name}" is cut short (no image data or no end marker); export it again.`);
   }
-  return { width, height, idat, idatBytes, idatCrcs };
+  return { width, height, idat, idatBytes, idatCrcs, file };
 }

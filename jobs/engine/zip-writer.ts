@@ -84,6 +84,50 @@ function dosDateTime(d: Date): { date: number; time: number } {
 
 type Written = { name: Buffer; crc: number; size: number; compressedSize: number; offset: number; method: number; descriptor: boolean };
 
+/**
+ * Puts the data of stored entries into the zip from Buffers another task holds anyway (the PDF writer
+ * reads every card PNG whole): pass it to writeZip with `done`, the promise of that task; call `put`
+ * with each file's whole bytes. writeZip places the stored entries whose sizes fix their offsets (the
+ * leading run of existing stored files), waits for `done` at the first of them not put yet, and copies
+ * any that were not put as usual. The zip's bytes are the same either way.
+ */
+export class ZipPlacer {
+  /** CRC-32 and size of every entry (by index) whose data is in place. */
+  readonly placed = new Map<number, number>();
+  private spots: { fh: FileHandle; byFile: Map<string, Array<{ index: number; at: number; size: number }>> } | null = null;
+  private dropped = false;
+  private settle!: () => void;
+  private readonly known = new Promise<void>((resolve) => (this.settle = resolve));
+
+  constructor(readonly done: Promise<unknown>) {
+    // Its failure is the writer's to report; writeZip only waits on it.
+    done.catch(() => undefined);
+  }
+
+  /** Called by writeZip once the offsets are known. */
+  place(spots: { fh: FileHandle; byFile: Map<string, Array<{ index: number; at: number; size: number }>> }): void {
+    this.spots = spots;
+    this.settle();
+  }
+
+  /** Puts nothing from now on (the zip failed or was closed). */
+  drop(): void {
+    this.dropped = true;
+    this.settle();
+  }
+
+  /** Writes `data` (the whole of `file`) wherever the zip holds that file; a no-op for other files. */
+  async put(file: string, data: Buffer): Promise<void> {
+    await this.known;
+    const spots = this.spots?.byFile.get(file)?.filter((s) => s.size === data.length && !this.placed.has(s.index));
+    if (!this.spots || this.dropped || !spots?.length) return;
+    const crc = crc32(data);
+    const { fh } = this.spots;
+    await Promise.all(spots.map((s) => writevAll(fh, [data], s.at)));
+    if (!this.dropped) for (const s of spots) this.placed.set(s.index, crc);
+  }
+}
+
 /** Bytes a stored entry with a data descriptor takes in the zip: local header, data, descriptor. */
 function storedSpan(name: Buffer, size: number): number {
   const zip64 = size >= U32;
@@ -194,7 +238,7 @@ function endRecords(count: number, cdOffset: number, cdSize: number): Buffer {
 }
 
 /** Writes `entries` in order into a zip at `target`; every entry gets the time stamp `mtime`. */
-export async function writeZip(target: string, entries: readonly ZipFileEntry[], mtime: Date): Promise<void> {
+export async function writeZip(target: string, entries: readonly ZipFileEntry[], mtime: Date, placer: ZipPlacer | null = null): Promise<void> {
   const stamp = dosDateTime(mtime);
   const tees = entries.filter((e) => e.tee);
   if (tees.length > 1) throw new Error('a zip takes at most one teed entry');
@@ -205,6 +249,7 @@ export async function writeZip(target: string, entries: readonly ZipFileEntry[],
     out = await FileSink.create(target);
   } catch (err) {
     tee?.drop();
+    placer?.drop();
     throw err;
   }
   const written: Written[] = [];
@@ -212,23 +257,49 @@ export async function writeZip(target: string, entries: readonly ZipFileEntry[],
   const buffers = [Buffer.allocUnsafe(COPY_CHUNK), Buffer.allocUnsafe(COPY_CHUNK)] as const;
   // Where the teed entry's local header goes, when the entries before it allow placing it now.
   let teeOffset = -1;
+  // Offsets of the leading run of stored files that exist already: their sizes fix where each goes.
+  const layout: number[] = [];
+  let sizes: number[] = [];
   try {
-    if (tee) {
-      const before = entries.slice(0, teeIndex);
-      if (before.every((e) => !e.compress && e.ready === undefined)) {
-        const sizes = await Promise.all(before.map(async (e) => (await stat(e.file)).size));
-        teeOffset = before.reduce((at, e, i) => at + storedSpan(Buffer.from(e.name, 'utf8'), sizes[i]!), 0);
+    let known = 0;
+    while (known < entries.length && !entries[known]!.compress && entries[known]!.ready === undefined) known++;
+    if (placer || (tee && teeIndex <= known)) {
+      sizes = await Promise.all(entries.slice(0, known).map(async (e) => (await stat(e.file)).size));
+      let at = 0;
+      const byFile = new Map<string, Array<{ index: number; at: number; size: number }>>();
+      for (let i = 0; i < known; i++) {
+        const name = Buffer.from(entries[i]!.name, 'utf8');
+        layout.push(at);
+        if (sizes[i]! < U32) {
+          const dataAt = at + localHeader({ name, crc: 0, size: sizes[i]!, compressedSize: sizes[i]!, offset: at, method: 0, descriptor: true }, stamp).length;
+          byFile.set(entries[i]!.file, [...(byFile.get(entries[i]!.file) ?? []), { index: i, at: dataAt, size: sizes[i]! }]);
+        }
+        at += storedSpan(name, sizes[i]!);
+      }
+      placer?.place({ fh: out.handle, byFile });
+      if (tee && teeIndex <= known) {
+        teeOffset = at;
         const header = localHeader({ name: Buffer.from(entries[teeIndex]!.name, 'utf8'), crc: 0, size: 0, compressedSize: 0, offset: teeOffset, method: 0, descriptor: true }, stamp);
         tee.place({ fh: out.handle, at: teeOffset + header.length });
-      } else {
-        tee.place(null);
       }
     }
-    for (const entry of entries) {
+    if (tee && teeOffset < 0) tee.place(null);
+    if (placer && layout.length === 0) placer.drop();
+    for (const [index, entry] of entries.entries()) {
       await entry.ready;
       const name = Buffer.from(entry.name, 'utf8');
       const offset = out.offset;
-      if (entry.tee && entry.tee.complete && offset === teeOffset && entry.tee.size < U32 && (await stat(entry.file)).size === entry.tee.size) {
+      if (placer && index < layout.length && !placer.placed.has(index)) await placer.done;
+      const placedCrc = placer && offset === layout[index] ? placer.placed.get(index) : undefined;
+      if (placedCrc !== undefined) {
+        // The data is in place already (see ZipPlacer): header, skip the data, descriptor.
+        const size = sizes[index]!;
+        const e = { name, crc: placedCrc, size, compressedSize: size, offset, method: 0, descriptor: true };
+        await out.write(localHeader(e, stamp));
+        await out.skip(e.size);
+        await out.write(dataDescriptor(e));
+        written.push(e);
+      } else if (entry.tee && entry.tee.complete && offset === teeOffset && entry.tee.size < U32 && (await stat(entry.file)).size === entry.tee.size) {
         // The data is in place already (see ZipTee): header, skip the data, descriptor.
         const e = { name, crc: entry.tee.crc, size: entry.tee.size, compressedSize: entry.tee.size, offset, method: 0, descriptor: true };
         await out.write(localHeader(e, stamp));
@@ -275,6 +346,7 @@ export async function writeZip(target: string, entries: readonly ZipFileEntry[],
     await out.close();
   } catch (err) {
     tee?.drop();
+    placer?.drop();
     await out.abort();
     throw err;
   }

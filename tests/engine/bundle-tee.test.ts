@@ -9,7 +9,7 @@ import sharp from 'sharp';
 import { describe, expect, it } from 'vitest';
 import { FileSink } from '../../jobs/engine/file-io.ts';
 import { runEngine } from '../../jobs/engine/run.ts';
-import { writeZip, ZipTee, type ZipFileEntry } from '../../jobs/engine/zip-writer.ts';
+import { writeZip, ZipPlacer, ZipTee, type ZipFileEntry } from '../../jobs/engine/zip-writer.ts';
 import { parseRecipe } from '../../shared/recipe.ts';
 
 const STAMP = new Date(Date.UTC(2020, 0, 1));
@@ -63,6 +63,28 @@ describe('bundle zip with a teed entry', () => {
     expect(sameBytes(spawnSync('unzip', ['-p', path.join(dir, 'teed.zip'), 'deck.pdf'], { maxBuffer: 1 << 26 }).stdout, Buffer.concat(pieces))).toBe(true);
   });
 
+  it('puts stored entries from Buffers another task holds: placed, not read, and the same zip bytes', async () => {
+    const dir = await folder();
+    const entries: ZipFileEntry[] = [
+      ...[1, 2, 3].map((n) => ({ file: path.join(dir, 'cards', `c${n}.png`), name: `cards/c${n}.png`, compress: false })),
+      { file: path.join(dir, 'report.csv'), name: 'report.csv', compress: true },
+    ];
+    let finish!: () => void;
+    const placer = new ZipPlacer(new Promise<void>((resolve) => (finish = resolve)));
+    const zipping = writeZip(path.join(dir, 'placed.zip'), entries, STAMP, placer);
+    // c2 is not put: it is copied from its file once the other task is done.
+    for (const n of [1, 3]) {
+      const file = path.join(dir, 'cards', `c${n}.png`);
+      await placer.put(file, await readFile(file));
+    }
+    finish();
+    await zipping;
+    expect([...placer.placed.keys()].sort()).toEqual([0, 2]);
+    await writeZip(path.join(dir, 'copied.zip'), entries, STAMP);
+    expect(sameBytes(await readFile(path.join(dir, 'placed.zip')), await readFile(path.join(dir, 'copied.zip')))).toBe(true);
+    unzipTest(path.join(dir, 'placed.zip'));
+  });
+
   it('copies the finished file instead when an entry before it is deflated (its size is not known in advance)', async () => {
     const dir = await folder();
     const tee = new ZipTee();
@@ -78,7 +100,7 @@ describe('bundle zip with a teed entry', () => {
     unzipTest(path.join(dir, 'teed.zip'));
   });
 
-  it('a run bundle holds the combined PDF byte for byte and tests clean with unzip', async () => {
+  it('a run bundle (singles put from the PDF writer\'s reads, PDF teed) equals a copied one and tests clean with unzip', async () => {
     const base = await mkdtemp(path.join(tmpdir(), 'bw-tee-run-'));
     const art = path.join(base, 'art');
     await mkdir(art);
@@ -95,5 +117,9 @@ describe('bundle zip with a teed entry', () => {
     const names = spawnSync('unzip', ['-Z1', bundle], { encoding: 'utf8' }).stdout.trim().split('\n');
     expect(names).toEqual(['cards/card-0.png', 'cards/card-1.png', 'cards/card-2.png', 'tee-deck.pdf', 'sheets-letter.pdf', 'proof.pdf', 'report.json', 'report.csv']);
     expect(sameBytes(spawnSync('unzip', ['-p', bundle, 'tee-deck.pdf'], { maxBuffer: 1 << 26 }).stdout, await readFile(path.join(out, 'tee-deck.pdf')))).toBe(true);
+    // Singles placed from the PDF writer's reads and the PDF teed: the same bytes as copying every finished file.
+    const copied = path.join(base, 'copied.zip');
+    await writeZip(copied, names.map((n) => ({ file: path.join(out, n), name: n, compress: !/\.(png|pdf)$/.test(n) })), STAMP);
+    expect(sameBytes(await readFile(bundle), await readFile(copied))).toBe(true);
   });
 });
