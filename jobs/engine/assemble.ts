@@ -25,6 +25,8 @@ export type RenderedCard = {
   /** The conformed PNG on disk (8-bit RGB with bleed), or null when the card was rejected. */
   pngPath: string | null;
   info: CardInfo | RejectedCard['info'];
+  /** CRC-32 of the file at pngPath when known (the render cache keeps it): the bundle then need not hash it. */
+  pngCrc32?: number | null;
 };
 
 export /** Resolves `name` inside `dir` and refuses anything that would land outside it. */
@@ -160,8 +162,13 @@ export async function assembleOutputs(opts: {
     const pdfPages: PdfPage[] = plan.slots.map((s) => (s.source ? { kind: 'card', pngPath: pngOf(s.source)! } : { kind: 'blank' }));
     // Singles are hard links or copies of the renders: the bundle's entry of a single is keyed by the render it came from.
     const singleOf = new Map<string, string[]>();
+    const crcOf = new Map<string, number>();
     if (recipe.outputs.singles === 'png') {
-      for (const [source, outs] of outputsBySource) singleOf.set(pngOf(source)!, outs.map((o) => inside(outDir, o)));
+      for (const [source, outs] of outputsBySource) {
+        const card = bySource.get(source)!;
+        singleOf.set(card.pngPath!, outs.map((o) => inside(outDir, o)));
+        if (typeof card.pngCrc32 === 'number') crcOf.set(card.pngPath!, card.pngCrc32);
+      }
     }
     let settlePdf!: (p: Promise<unknown>) => void;
     const p = singleOf.size ? new ZipPlacer(new Promise<unknown>((resolve) => (settlePdf = resolve))) : null;
@@ -173,7 +180,7 @@ export async function assembleOutputs(opts: {
       title,
       outPath: inside(outDir, pdfName),
       mirror: tee,
-      onPngFile: p ? async (png, file) => void (await Promise.all((singleOf.get(png) ?? []).map((single) => p.put(single, file)))) : null,
+      onPngFile: p ? async (png, file) => void (await Promise.all((singleOf.get(png) ?? []).map((single) => p.put(single, file, crcOf.get(png))))) : null,
     }).then(() => onProgress?.({ phase: 'pdf', done: 1, total: 1 }));
     if (p) settlePdf(pdfTask);
   }

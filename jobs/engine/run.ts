@@ -5,6 +5,7 @@ import { access, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
+import { crc32 } from 'node:zlib';
 import { BleedwrightError } from '../../shared/errors.ts';
 import type { Finding } from '../../shared/findings.ts';
 import type { Recipe } from '../../shared/recipe.ts';
@@ -86,7 +87,8 @@ export function renderCacheKey(recipe: Recipe, source: string, fingerprint: stri
     .digest('hex');
 }
 
-type CachedRender = { png: boolean; info: RenderedCard['info'] };
+/** `pngCrc32`: CRC-32 of the cached PNG file, so the bundle need not hash it again (absent in older entries). */
+type CachedRender = { png: boolean; info: RenderedCard['info']; pngCrc32?: number };
 
 async function readCached(cacheDir: string, key: string): Promise<CachedRender | null> {
   try {
@@ -126,17 +128,23 @@ export async function renderCard(opts: {
     const cached = await readCached(cacheDir, key);
     const cachedPng = path.join(cacheDir, `${key}.png`);
     if (cached && !cached.png) return { source, role, title, pngPath: null, info: cached.info };
-    if (cached && (pngPath === null || (await fileExists(cachedPng)))) return { source, role, title, pngPath: pngPath === null ? null : cachedPng, info: cached.info };
+    if (cached && (pngPath === null || (await fileExists(cachedPng)))) {
+      return pngPath === null
+        ? { source, role, title, pngPath: null, info: cached.info }
+        : { source, role, title, pngPath: cachedPng, info: cached.info, pngCrc32: typeof cached.pngCrc32 === 'number' ? cached.pngCrc32 : null };
+    }
   }
   const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
   if (cacheDir && key) {
     if (result.png) await writeShared(path.join(cacheDir, `${key}.png`), result.png);
-    await writeShared(path.join(cacheDir, `${key}.json`), JSON.stringify({ png: result.png !== null, info: result.info } satisfies CachedRender));
+    const entry: CachedRender = { png: result.png !== null, info: result.info, ...(result.png ? { pngCrc32: crc32(result.png) } : {}) };
+    await writeShared(path.join(cacheDir, `${key}.json`), JSON.stringify(entry));
   }
   if (!result.png) return { source, role, title, pngPath: null, info: result.info };
-  if (cacheDir && key && pngPath) return { source, role, title, pngPath: path.join(cacheDir, `${key}.png`), info: result.info };
+  const pngCrc32 = crc32(result.png);
+  if (cacheDir && key && pngPath) return { source, role, title, pngPath: path.join(cacheDir, `${key}.png`), info: result.info, pngCrc32 };
   if (pngPath) await writeAtomic(pngPath, result.png);
-  return { source, role, title, pngPath, info: result.info };
+  return { source, role, title, pngPath, info: result.info, pngCrc32 };
 }
 
 async function fileExists(p: string): Promise<boolean> {

@@ -116,12 +116,15 @@ export class ZipPlacer {
     this.settle();
   }
 
-  /** Writes `data` (the whole of `file`) wherever the zip holds that file; a no-op for other files. */
-  async put(file: string, data: Buffer): Promise<void> {
+  /**
+   * Writes `data` (the whole of `file`) wherever the zip holds that file; a no-op for other files.
+   * `knownCrc`: the CRC-32 of `data` when the caller has it already (it must be right: it goes into the zip as it is).
+   */
+  async put(file: string, data: Buffer, knownCrc?: number): Promise<void> {
     await this.known;
     const spots = this.spots?.byFile.get(file)?.filter((s) => s.size === data.length && !this.placed.has(s.index));
     if (!this.spots || this.dropped || !spots?.length) return;
-    const crc = crc32(data);
+    const crc = knownCrc ?? crc32(data);
     const { fh } = this.spots;
     await Promise.all(spots.map((s) => writevAll(fh, [data], s.at)));
     if (!this.dropped) for (const s of spots) this.placed.set(s.index, crc);

@@ -2,7 +2,8 @@
 // zip comes out byte for byte as if the finished file had been copied in.
 import { spawnSync } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
-import { mkdir, mkdtemp, readFile, writeFile } from 'node:fs/promises';
+import { mkdir, mkdtemp, readdir, readFile, writeFile } from 'node:fs/promises';
+import { crc32 } from 'node:zlib';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
@@ -118,6 +119,32 @@ describe('bundle zip with a teed entry', () => {
     expect(names).toEqual(['cards/card-0.png', 'cards/card-1.png', 'cards/card-2.png', 'tee-deck.pdf', 'sheets-letter.pdf', 'proof.pdf', 'report.json', 'report.csv']);
     expect(sameBytes(spawnSync('unzip', ['-p', bundle, 'tee-deck.pdf'], { maxBuffer: 1 << 26 }).stdout, await readFile(path.join(out, 'tee-deck.pdf')))).toBe(true);
     // Singles placed from the PDF writer's reads and the PDF teed: the same bytes as copying every finished file.
+    const copied = path.join(base, 'copied.zip');
+    await writeZip(copied, names.map((n) => ({ file: path.join(out, n), name: n, compress: !/\.(png|pdf)$/.test(n) })), STAMP);
+    expect(sameBytes(await readFile(bundle), await readFile(copied))).toBe(true);
+  });
+
+  it('the render cache keeps each PNG\'s CRC-32, and a rerun\'s bundle built from it equals a copied one', async () => {
+    const base = await mkdtemp(path.join(tmpdir(), 'bw-tee-crc-'));
+    const art = path.join(base, 'art');
+    await mkdir(art);
+    for (const [i, color] of ['#aa2233', '#2233aa'].entries()) {
+      await writeFile(path.join(art, `card-${i}.png`), await sharp({ create: { width: 250, height: 350, channels: 3, background: color } }).png().toBuffer());
+    }
+    const recipe = parseRecipe(JSON.stringify({ name: 'Crc deck', trim: 'poker', dpi: 100, sheet: { multiple: 1, pad: 'none' }, outputs: { singles: 'png', pdf: true, sheets: null, proof: false } }));
+    const cacheDir = path.join(base, 'cache');
+    await runEngine({ source: art, recipe, outDir: path.join(base, 'one'), cacheDir });
+    const jsons = (await readdir(cacheDir)).filter((f) => f.endsWith('.json'));
+    expect(jsons).toHaveLength(2);
+    for (const f of jsons) {
+      const entry = JSON.parse(await readFile(path.join(cacheDir, f), 'utf8')) as { pngCrc32: number };
+      expect(entry.pngCrc32).toBe(crc32(await readFile(path.join(cacheDir, f.replace(/\.json$/, '.png')))));
+    }
+    const out = path.join(base, 'two');
+    await runEngine({ source: art, recipe, outDir: out, cacheDir });
+    const bundle = path.join(out, 'bundle.zip');
+    unzipTest(bundle);
+    const names = spawnSync('unzip', ['-Z1', bundle], { encoding: 'utf8' }).stdout.trim().split('\n');
     const copied = path.join(base, 'copied.zip');
     await writeZip(copied, names.map((n) => ({ file: path.join(out, n), name: n, compress: !/\.(png|pdf)$/.test(n) })), STAMP);
     expect(sameBytes(await readFile(bundle), await readFile(copied))).toBe(true);
