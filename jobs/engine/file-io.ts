@@ -49,6 +49,9 @@ export class FileSink {
   private position = 0;
   private staged = 0;
   private readonly stage = Buffer.allocUnsafe(64 * 1024);
+  // Writes started by `skip` and not awaited yet, and the first of them that failed.
+  private inflight: Promise<void>[] = [];
+  private failed: unknown = undefined;
 
   private constructor(
     private readonly fh: FileHandle,
@@ -89,15 +92,36 @@ export class FileSink {
     else await writevAll(this.fh, list, at);
   }
 
-  /** Leaves the next `bytes` bytes of the file to another writer (positioned writes on `handle`). */
+  /**
+   * Leaves the next `bytes` bytes of the file to another writer (positioned writes on `handle`). The
+   * bytes staged before the gap go out without waiting for them (many headers between placed entries
+   * would otherwise wait on the disk one by one); `close` waits for them all.
+   */
   async skip(bytes: number): Promise<void> {
-    await this.writev([]);
+    if (this.staged > 0) {
+      const data = Buffer.from(this.stage.subarray(0, this.staged));
+      const at = this.position;
+      this.position += this.staged;
+      this.staged = 0;
+      const writing = writevAll(this.fh, [data], at);
+      writing.catch((err: unknown) => (this.failed ??= err));
+      this.inflight.push(writing);
+      if (this.inflight.length >= 64) await this.drain();
+    }
     this.position += bytes;
+  }
+
+  private async drain(): Promise<void> {
+    const list = this.inflight;
+    this.inflight = [];
+    await Promise.allSettled(list);
+    if (this.failed !== undefined) throw this.failed;
   }
 
   async close(): Promise<void> {
     try {
       await this.writev([]);
+      await this.drain();
     } finally {
       await this.fh.close();
     }
@@ -106,6 +130,7 @@ export class FileSink {
   /** Closes without flushing (after a failure); the caller removes the file. */
   async abort(): Promise<void> {
     this.staged = 0;
+    await Promise.allSettled(this.inflight);
     await this.fh.close().catch(() => undefined);
   }
 }

@@ -32,6 +32,8 @@ export async function writeCombinedPdf(opts: {
    * written: the bundle puts its singles' data from it (ZipPlacer). The Buffer is valid until this settles.
    */
   onPngFile?: ((pngPath: string, file: Buffer) => Promise<void>) | null;
+  /** Settles once the file at outPath may be replaced (the caller is removing the old one). */
+  renameAfter?: Promise<unknown>;
 }): Promise<{ pages: number; bytes: number }> {
   const { pages, pagePt, bleedPt, title, outPath } = opts;
   if (pages.length === 0) throw new PdfEngineError('PDF_NO_PAGES', 'there are no cards to put in the PDF.');
@@ -119,6 +121,7 @@ export async function writeCombinedPdf(opts: {
     await rm(tmpPath, { force: true });
     throw err;
   }
+  await opts.renameAfter;
   await rename(tmpPath, outPath);
   const { size } = await stat(outPath);
   return { pages: pages.length, bytes: size };

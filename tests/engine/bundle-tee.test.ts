@@ -124,7 +124,7 @@ describe('bundle zip with a teed entry', () => {
     expect(sameBytes(await readFile(bundle), await readFile(copied))).toBe(true);
   });
 
-  it('the render cache keeps each PNG\'s CRC-32, and a rerun\'s bundle built from it equals a copied one', async () => {
+  it('the render cache keeps each PNG\'s CRC-32, and a rerun into the same folder makes a bundle equal to a copied one', async () => {
     const base = await mkdtemp(path.join(tmpdir(), 'bw-tee-crc-'));
     const art = path.join(base, 'art');
     await mkdir(art);
@@ -140,8 +140,10 @@ describe('bundle zip with a teed entry', () => {
       const entry = JSON.parse(await readFile(path.join(cacheDir, f), 'utf8')) as { pngCrc32: number };
       expect(entry.pngCrc32).toBe(crc32(await readFile(path.join(cacheDir, f.replace(/\.json$/, '.png')))));
     }
-    const out = path.join(base, 'two');
+    // The rerun goes into the same folder: the last run's PDF and bundle are removed first, then replaced.
+    const out = path.join(base, 'one');
     await runEngine({ source: art, recipe, outDir: out, cacheDir });
+    expect((await readdir(out)).sort()).toEqual(['bundle.zip', 'cards', 'crc-deck.pdf', 'report.csv', 'report.json']);
     const bundle = path.join(out, 'bundle.zip');
     unzipTest(bundle);
     const names = spawnSync('unzip', ['-Z1', bundle], { encoding: 'utf8' }).stdout.trim().split('\n');
