@@ -101,6 +101,16 @@ async function signIn(page: Page, email: string) {
 
 const text = (page: Page, testId: string) => page.getByTestId(testId).first().textContent();
 
+
+/** A finished run row with the same recipe version and art set as `modelRunId`, for cards written straight into the table. */
+async function insertDoneRunLike(modelRunId: string): Promise<{ id: string }> {
+  const db = server.deps.db;
+  const model = await db('runs').where({ id: modelRunId }).first();
+  const [row] = await db('runs')
+    .insert({ workspace_id: model.workspace_id, recipe_version_id: model.recipe_version_id, art_set_revision_id: model.art_set_revision_id, state: 'done', created_by: model.created_by, finished_at: db.fn.now() })
+    .returning('id');
+  return row;
+}
 describe('browser: dashboard and print planning', () => {
   it('home, card preview, proof viewer, deck and planner work for a maker', { timeout: 240_000 }, async () => {
     const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
@@ -312,10 +322,7 @@ describe('browser: dashboard and print planning', () => {
     // Settled cards written straight into PostgreSQL (this is about the table, not rendering); every
     // tenth card has a warning. No images, so thumbnails are not asked for (only done cards have one).
     const db = server.deps.db;
-    const model = await db('runs').where({ id: runId }).first();
-    const [big] = await db('runs')
-      .insert({ workspace_id: model.workspace_id, recipe_version_id: model.recipe_version_id, art_set_revision_id: model.art_set_revision_id, state: 'done', created_by: model.created_by, finished_at: db.fn.now() })
-      .returning('id');
+    const big = await insertDoneRunLike(runId);
     const warn = (i: number) => i % 10 === 0;
     const rows = Array.from({ length: 400 }, (_, n) => {
       const i = n + 1;
@@ -375,10 +382,7 @@ describe('browser: dashboard and print planning', () => {
     // A run row with 1,000 settled cards written straight into PostgreSQL: this is about the page's
     // windowing, not rendering, so the cards have no images (their thumbnails answer 404).
     const db = server.deps.db;
-    const model = await db('runs').where({ id: runId }).first();
-    const [big] = await db('runs')
-      .insert({ workspace_id: model.workspace_id, recipe_version_id: model.recipe_version_id, art_set_revision_id: model.art_set_revision_id, state: 'done', created_by: model.created_by, finished_at: db.fn.now() })
-      .returning('id');
+    const big = await insertDoneRunLike(runId);
     const rows = Array.from({ length: 1000 }, (_, i) => ({
       run_id: big.id,
       seq: i + 1,
