@@ -186,8 +186,10 @@ describe('a run from upload to bundle', () => {
   });
 
   it('cancel stops new renders and leaves counts that match the card rows', async () => {
-    const recipe = await newRecipe('Cancel me');
-    const up = await uploadZip(await cardSet(12), 'Cancel art');
+    // Enough work that renders are still queued when the cancel lands, however quickly workers are
+    // woken: 60 cards conformed up to 300 DPI (825 x 1125 each), a few at a time.
+    const recipe = await newRecipe('Cancel me', { dpi: 300 });
+    const up = await uploadZip(await cardSet(60), 'Cancel art');
     const start = await fx.actors.maker.post(`${api}/runs`, { recipeId: recipe.id, artSetId: up.body.artSet.id });
     const runId = start.body.run.id;
     await waitForRun(fx.actors.maker, fx.workspaceId, runId, 30_000, (r) => r.progress.total > 0);
