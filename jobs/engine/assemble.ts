@@ -29,8 +29,8 @@ export type RenderedCard = {
   pngCrc32?: number | null;
 };
 
-export /** Resolves `name` inside `dir` and refuses anything that would land outside it. */
-function inside(dir: string, name: string): string {
+/** Resolves `name` inside `dir` and refuses anything that would land outside it. */
+export function inside(dir: string, name: string): string {
   const full = path.resolve(dir, name);
   const rel = path.relative(path.resolve(dir), full);
   if (rel === '' || rel.startsWith('..') || path.isAbsolute(rel)) {

@@ -135,13 +135,13 @@ export async function renderCard(opts: {
     }
   }
   const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
+  const pngCrc32 = result.png ? crc32(result.png) : null;
   if (cacheDir && key) {
     if (result.png) await writeShared(path.join(cacheDir, `${key}.png`), result.png);
-    const entry: CachedRender = { png: result.png !== null, info: result.info, ...(result.png ? { pngCrc32: crc32(result.png) } : {}) };
+    const entry: CachedRender = { png: result.png !== null, info: result.info, ...(pngCrc32 !== null ? { pngCrc32 } : {}) };
     await writeShared(path.join(cacheDir, `${key}.json`), JSON.stringify(entry));
   }
   if (!result.png) return { source, role, title, pngPath: null, info: result.info };
-  const pngCrc32 = crc32(result.png);
   if (cacheDir && key && pngPath) return { source, role, title, pngPath: path.join(cacheDir, `${key}.png`), info: result.info, pngCrc32 };
   if (pngPath) await writeAtomic(pngPath, result.png);
   return { source, role, title, pngPath, info: result.info, pngCrc32 };

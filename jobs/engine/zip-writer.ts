@@ -294,17 +294,16 @@ export async function writeZip(target: string, entries: readonly ZipFileEntry[],
       const offset = out.offset;
       if (placer && index < layout.length && !placer.placed.has(index)) await placer.done;
       const placedCrc = placer && offset === layout[index] ? placer.placed.get(index) : undefined;
-      if (placedCrc !== undefined) {
-        // The data is in place already (see ZipPlacer): header, skip the data, descriptor.
-        const size = sizes[index]!;
-        const e = { name, crc: placedCrc, size, compressedSize: size, offset, method: 0, descriptor: true };
-        await out.write(localHeader(e, stamp));
-        await out.skip(e.size);
-        await out.write(dataDescriptor(e));
-        written.push(e);
-      } else if (entry.tee && entry.tee.complete && offset === teeOffset && entry.tee.size < U32 && (await stat(entry.file)).size === entry.tee.size) {
-        // The data is in place already (see ZipTee): header, skip the data, descriptor.
-        const e = { name, crc: entry.tee.crc, size: entry.tee.size, compressedSize: entry.tee.size, offset, method: 0, descriptor: true };
+      // Data put in place already by a ZipPlacer or a ZipTee: its CRC-32 and size.
+      const inPlace =
+        placedCrc !== undefined
+          ? { crc: placedCrc, size: sizes[index]! }
+          : entry.tee && entry.tee.complete && offset === teeOffset && entry.tee.size < U32 && (await stat(entry.file)).size === entry.tee.size
+            ? { crc: entry.tee.crc, size: entry.tee.size }
+            : null;
+      if (inPlace) {
+        // Header, skip the data, descriptor.
+        const e = { name, crc: inPlace.crc, size: inPlace.size, compressedSize: inPlace.size, offset, method: 0, descriptor: true };
         await out.write(localHeader(e, stamp));
         await out.skip(e.size);
         await out.write(dataDescriptor(e));
