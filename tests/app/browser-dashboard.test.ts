@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
 import { startServer, type RunningServer } from '../../server/server.ts';
 import { createLogger } from '../../server/logger.ts';
 import { TEST_PASSWORD, createWorkspaceFixture, type WorkspaceFixture } from './fixtures.ts';
@@ -102,6 +102,16 @@ async function signIn(page: Page, email: string) {
 const text = (page: Page, testId: string) => page.getByTestId(testId).first().textContent();
 
 
+/** A 1280 px browser tab signed in as the maker, with the page errors it collects. */
+async function makerPage(): Promise<{ context: BrowserContext; page: Page; errors: string[] }> {
+  const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
+  const page = await context.newPage();
+  const errors: string[] = [];
+  page.on('pageerror', (e) => errors.push(e.message));
+  await signIn(page, fx.users.maker.email);
+  return { context, page, errors };
+}
+
 /** A finished run row with the same recipe version and art set as `modelRunId`, for cards written straight into the table. */
 async function insertDoneRunLike(modelRunId: string): Promise<{ id: string }> {
   const db = server.deps.db;
@@ -113,11 +123,7 @@ async function insertDoneRunLike(modelRunId: string): Promise<{ id: string }> {
 }
 describe('browser: dashboard and print planning', () => {
   it('home, card preview, proof viewer, deck and planner work for a maker', { timeout: 240_000 }, async () => {
-    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
-    const page = await context.newPage();
-    const errors: string[] = [];
-    page.on('pageerror', (e) => errors.push(e.message));
-    await signIn(page, fx.users.maker.email);
+    const { context, page, errors } = await makerPage();
     const ws = `${server.url}/w/${fx.workspaceId}`;
 
     // Home: the run with its state and findings; the guide shows the steps left.
@@ -283,11 +289,7 @@ describe('browser: dashboard and print planning', () => {
   });
 
   it('the deck view and proof viewer show copies and each interleaved back where it sits', { timeout: 120_000 }, async () => {
-    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
-    const page = await context.newPage();
-    const errors: string[] = [];
-    page.on('pageerror', (e) => errors.push(e.message));
-    await signIn(page, fx.users.maker.email);
+    const { context, page, errors } = await makerPage();
     const ws = `${server.url}/w/${fx.workspaceId}`;
     await page.goto(`${ws}/runs/${interleavedRunId}/deck`);
     const view = page.getByTestId('deck-view');
@@ -340,9 +342,7 @@ describe('browser: dashboard and print planning', () => {
     });
     await db.batchInsert('run_cards', rows, 200);
 
-    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
-    const page = await context.newPage();
-    await signIn(page, fx.users.maker.email);
+    const { context, page } = await makerPage();
     await page.goto(`${server.url}/w/${fx.workspaceId}/runs/${big.id}`);
     const table = page.getByTestId('cards-table');
     await table.getByRole('link', { name: 'Inspect card 1: bulk/card-0001.png' }).waitFor();
@@ -394,9 +394,7 @@ describe('browser: dashboard and print planning', () => {
     }));
     await db.batchInsert('run_cards', rows, 250);
 
-    const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });
-    const page = await context.newPage();
-    await signIn(page, fx.users.maker.email);
+    const { context, page } = await makerPage();
     const started = Date.now();
     await page.goto(`${server.url}/w/${fx.workspaceId}/runs/${big.id}/deck`);
     const view = page.getByTestId('deck-view');
