@@ -1,6 +1,7 @@
 // Assembly: from rendered cards to the deck's outputs (singles, combined PDF, sheets, proof, report,
 // bundle). The pg-boss assemble job and the CLI's runEngine both call assembleOutputs.
 import { chmod, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
 import { BleedwrightError } from '../../shared/errors.ts';
@@ -14,6 +15,7 @@ import { writeCombinedPdf, type PdfPage } from './pdf.ts';
 import { markDuplicates } from './preflight.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
 import { writeZip, ZipPlacer, ZipTee } from './zip-writer.ts';
+import { mapLimited } from '../../shared/map-limited.ts';
 
 export type Progress = { phase: 'cards' | 'pdf' | 'sheets' | 'proof' | 'report' | 'bundle'; done: number; total: number; current?: string };
 
@@ -70,6 +72,10 @@ function reportCardOf(card: RenderedCard, outputs: string[], copies: number): Re
     findings: info.findings,
   };
 }
+
+// Singles made at once: hard links are a few file system calls; JPEG/WebP/TIFF singles are encoded.
+const LINKS_AT_ONCE = 16;
+const ENCODES_AT_ONCE = Math.min(4, availableParallelism());
 
 const RESERVED_PDF_NAMES = new Set(['proof', 'sheets-letter', 'sheets-a4', 'report', 'bundle']);
 
@@ -131,19 +137,20 @@ export async function assembleOutputs(opts: {
     }
     const names = uniqueNames(wanted.map((w) => w.name));
     await mkdir(cardsDir, { recursive: true });
-    for (let i = 0; i < wanted.length; i++) {
-      const { slot } = wanted[i]!;
+    const singlesFormat = recipe.outputs.singles;
+    // Links go several at once (a few file system calls each); encoded singles as many as renders.
+    await mapLimited(wanted, singlesFormat === 'png' ? LINKS_AT_ONCE : ENCODES_AT_ONCE, async ({ slot }, i) => {
       const src = bySource.get(slot.source!)!;
       const target = inside(cardsDir, names[i]!);
-      if (recipe.outputs.singles === 'png') {
+      if (singlesFormat === 'png') {
         // A PNG single is the rendered PNG byte for byte: link it instead of copying ~1 MB per card.
         const how = await linkOrCopy(src.pngPath!, target);
         if (how === 'link' && opts.rendersShared) await chmod(target, 0o444);
       } else {
-        await writeAtomic(target, await encodeSingle(await readFile(src.pngPath!), recipe.outputs.singles, recipe.dpi));
+        await writeAtomic(target, await encodeSingle(await readFile(src.pngPath!), singlesFormat, recipe.dpi));
       }
-      outputsBySource.set(slot.source!, [...(outputsBySource.get(slot.source!) ?? []), `cards/${names[i]}`]);
-    }
+    });
+    wanted.forEach(({ slot }, i) => outputsBySource.set(slot.source!, [...(outputsBySource.get(slot.source!) ?? []), `cards/${names[i]}`]));
   }
 
   const pngOf = (src: string | null) => (src ? (bySource.get(src)?.pngPath ?? null) : null);

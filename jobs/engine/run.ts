@@ -13,9 +13,11 @@ import { assembleOutputs, inside, writeAtomic, type Progress, type RenderedCard 
 import { entryFingerprint, imagePaths, openArtSet, readEntry, type ArchiveLimits, type ArtSet, type SkippedEntry } from './archive.ts';
 import { conformCard } from './conform.ts';
 import { markDuplicates } from './preflight.ts';
+import { mapLimited } from '../../shared/map-limited.ts';
 import type { RunReport } from './report.ts';
 
 export { assembleOutputs, writeBundle, type Progress, type RenderedCard } from './assemble.ts';
+export { mapLimited } from '../../shared/map-limited.ts';
 
 /**
  * Cards conformed at once: one more than the cores (at most 4 cores' worth, as each card holds its
@@ -30,26 +32,15 @@ function cardsInFlight(env: NodeJS.ProcessEnv): number {
   return Number.isInteger(set) && set >= 1 ? set : Math.min(4, availableParallelism()) + 1;
 }
 
+// Render cache files read at once on a rerun (each is a small JSON file and a stat).
+const CACHE_READS_AT_ONCE = 16;
+
 export type RunResult = {
   report: RunReport;
   /** 0 every card produced, 1 some cards skipped (the report says why). */
   exitCode: 0 | 1;
   outDir: string;
 };
-
-/** `fn` over `items`, at most `limit` at a time; results in the order of `items`. */
-export async function mapLimited<T, R>(items: readonly T[], limit: number, fn: (item: T, index: number) => Promise<R>): Promise<R[]> {
-  const results = new Array<R>(items.length);
-  let next = 0;
-  const worker = async () => {
-    while (next < items.length) {
-      const i = next++;
-      results[i] = await fn(items[i]!, i);
-    }
-  };
-  await Promise.all(Array.from({ length: Math.min(limit, items.length) }, worker));
-  return results;
-}
 
 /** The sources to render: every front in the set and every back the recipe or manifest names. */
 export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: Recipe): Array<{ source: string; role: 'front' | 'back'; title: string | null }> {
@@ -122,18 +113,42 @@ export async function renderCard(opts: {
   pngPath: string | null;
   cacheDir?: string | null;
 }): Promise<RenderedCard> {
+  return (await findCachedRender(opts)) ?? (await conformAndKeep(opts));
+}
+
+/** The card's render when `cacheDir` holds one (see renderCard), else null. Reads no art. */
+export async function findCachedRender(opts: {
+  set: ArtSet;
+  source: string;
+  role: 'front' | 'back';
+  title: string | null;
+  recipe: Recipe;
+  pngPath: string | null;
+  cacheDir?: string | null;
+}): Promise<RenderedCard | null> {
+  const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
+  if (!cacheDir) return null;
+  const key = renderCacheKey(recipe, source, await entryFingerprint(set, source));
+  const cached = await readCached(cacheDir, key);
+  if (!cached) return null;
+  if (!cached.png || pngPath === null) return { source, role, title, pngPath: null, info: cached.info };
+  const cachedPng = path.join(cacheDir, `${key}.png`);
+  if (!(await fileExists(cachedPng))) return null;
+  return { source, role, title, pngPath: cachedPng, info: cached.info, pngCrc32: typeof cached.pngCrc32 === 'number' ? cached.pngCrc32 : null };
+}
+
+/** Conforms the card and, with `cacheDir`, keeps the render there (see renderCard). */
+async function conformAndKeep(opts: {
+  set: ArtSet;
+  source: string;
+  role: 'front' | 'back';
+  title: string | null;
+  recipe: Recipe;
+  pngPath: string | null;
+  cacheDir?: string | null;
+}): Promise<RenderedCard> {
   const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
   const key = cacheDir ? renderCacheKey(recipe, source, await entryFingerprint(set, source)) : null;
-  if (cacheDir && key) {
-    const cached = await readCached(cacheDir, key);
-    const cachedPng = path.join(cacheDir, `${key}.png`);
-    if (cached && !cached.png) return { source, role, title, pngPath: null, info: cached.info };
-    if (cached && (pngPath === null || (await fileExists(cachedPng)))) {
-      return pngPath === null
-        ? { source, role, title, pngPath: null, info: cached.info }
-        : { source, role, title, pngPath: cachedPng, info: cached.info, pngCrc32: typeof cached.pngCrc32 === 'number' ? cached.pngCrc32 : null };
-    }
-  }
   const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
   const pngCrc32 = result.png ? crc32(result.png) : null;
   if (cacheDir && key) {
@@ -179,11 +194,22 @@ export async function runEngine(opts: {
   try {
     let done = 0;
     onProgress?.({ phase: 'cards', done, total: sources.length });
-    const cards = await mapLimited(sources, CARDS_IN_FLIGHT, async (s, i) => {
-      const card = await renderCard({ set, ...s, recipe, pngPath: inside(workDir, `${String(i).padStart(5, '0')}.png`), cacheDir });
+    const pngPathOf = (i: number) => inside(workDir, `${String(i).padStart(5, '0')}.png`);
+    // Cached cards are looked up first (a small file read each), then every slot renders the rest: a
+    // rerun's few changed cards render side by side, not one at a time between cached ones.
+    const found = await mapLimited(sources, CACHE_READS_AT_ONCE, async (s, i) => {
+      const card = await findCachedRender({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir });
+      if (card) onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
+      return card;
+    });
+    const missing = sources.flatMap((s, i) => (found[i] ? [] : [{ s, i }]));
+    const rendered = await mapLimited(missing, CARDS_IN_FLIGHT, async ({ s, i }) => {
+      const card = await conformAndKeep({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir });
       onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
       return card;
     });
+    const cards = found.slice() as RenderedCard[];
+    missing.forEach(({ i }, n) => (cards[i] = rendered[n]!));
     const report = await assembleOutputs({
       recipe,
       outDir,
