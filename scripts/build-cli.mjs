@@ -3,12 +3,13 @@
 // never failing the install); bin/bleedwright.js calls `cliEntry()` on every start.
 //
 // dist-cli/ (git-ignored) holds content-hashed ES modules and their source maps, and manifest.json:
-// the entry file, the sources the build read (esbuild's metafile, plus the build settings), and
+// the entry file, the sources the build read (esbuild's metafile, a bundled package by its
+// package.json, plus the build settings), and
 // `builtAt`, the file system's clock when the build began. The bundle is fresh while no source has an
 // mtime at or after `builtAt`, so an edit saved during a build is caught by the next start.
 // Code splitting keeps the sheets and proof writers in chunks of their own: they alone load pdf-lib
 // (~0.35 s of CPU), and only when a recipe asks for them.
-import { mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { basename, join, relative } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 
@@ -16,7 +17,8 @@ const root = fileURLToPath(new URL('..', import.meta.url));
 const dist = join(root, 'dist-cli');
 const manifestFile = join(dist, 'manifest.json');
 // Read by the build beside the sources it imports: a change to either means a new build.
-const SETTINGS = ['scripts/build-cli.mjs', 'tsconfig.json'];
+// package-lock.json changes whenever a bundled package is added, removed or upgraded.
+const SETTINGS = ['scripts/build-cli.mjs', 'tsconfig.json', 'package-lock.json'];
 // A file another manifest still names may be loaded late by a CLI started before a rebuild (the
 // sheets and proof chunks load at the end of a run), so unreferenced files are removed only when old.
 const PRUNE_AFTER_MS = 60 * 60 * 1000;
@@ -74,12 +76,19 @@ export async function buildCli() {
     platform: 'node',
     format: 'esm',
     target: 'node20',
-    packages: 'external', // sharp, pdf-lib, unzipper... load from node_modules as they are
+    // Packages are bundled too (resolving and compiling zod's and unzipper's hundreds of files cost
+    // ~0.2 s per start); sharp stays outside, as it loads its native libvips from node_modules.
+    external: ['sharp', '@aws-sdk/*'],
+    // Bundled CommonJS packages call require() for Node's own modules.
+    banner: { js: "import { createRequire as __bwCreateRequire } from 'node:module'; const require = __bwCreateRequire(import.meta.url);" },
     splitting: true,
     outdir: dist,
     entryNames: '[name]-[hash]',
     chunkNames: 'chunk-[hash]',
     outExtension: { '.js': '.mjs' },
+    // Less to read and compile at every start; names are kept for stack traces.
+    minifyWhitespace: true,
+    minifySyntax: true,
     sourcemap: 'linked',
     sourcesContent: false,
     metafile: true,
@@ -91,7 +100,10 @@ export async function buildCli() {
   for (const f of result.outputFiles) writeAtomically(f.path, f.contents);
   const entryOutput = Object.entries(result.metafile.outputs).find(([, o]) => o.entryPoint === 'cli/main.ts');
   const entry = basename(entryOutput[0]);
-  const inputs = [...Object.keys(result.metafile.inputs), ...SETTINGS];
+  // A bundled package is checked by its package.json (npm writes a package's folder whole), not by
+  // each of its hundreds of files.
+  const packageOf = (file) => file.match(/^(.*node_modules\/(?:@[^/]+\/)?[^/]+)\//)?.[1];
+  const inputs = [...new Set(Object.keys(result.metafile.inputs).map((f) => (packageOf(f) ? `${packageOf(f)}/package.json` : f))), ...SETTINGS.filter((f) => existsSync(join(root, f)))];
 
   const previous = readManifest();
   writeAtomically(manifestFile, `${JSON.stringify({ entry, builtAt, inputs, outputs }, null, 2)}\n`);
