@@ -107,6 +107,31 @@ describe('render cache', () => {
     expect(own.mode & 0o200).toBe(0o200);
   });
 
+  it('a rerun whose changed cards include broken art makes the outputs of a run without cache', async () => {
+    const base = await mkdtemp(path.join(tmpdir(), 'bw-cache-'));
+    const cacheDir = path.join(base, 'cache');
+    const [a, b, c, d] = await Promise.all(['#aa2233', '#2233aa', '#33aa22', '#777777'].map(art));
+    await runEngine({ source: await zipOf({ 'a.png': a!, 'b.png': b!, 'c.png': c!, 'd.png': d! }), recipe, outDir: path.join(base, 'one'), cacheDir });
+
+    // a.png changed and c.png broken: b and d come from the cache, a is rendered, c is left out.
+    const files = { 'a.png': await art('#aa9933'), 'b.png': b!, 'c.png': Buffer.from('not a picture'), 'd.png': d! };
+    const rerun = await runEngine({ source: await zipOf(files), recipe, outDir: path.join(base, 'two'), cacheDir });
+    const plain = await runEngine({ source: await zipOf(files), recipe, outDir: path.join(base, 'plain'), cacheDir: null });
+    expect(rerun.exitCode).toBe(1);
+    expect(rerun.report.totals.cards).toBe(3);
+    expect(rerun.report.cards).toEqual(plain.report.cards);
+    expect(Object.keys(await cards(path.join(base, 'two')))).toEqual(['a.png', 'b.png', 'd.png']);
+    expect(await cards(path.join(base, 'two'))).toEqual(await cards(path.join(base, 'plain')));
+    for (const name of ['bundle.zip', 'cache-deck.pdf']) {
+      expect(await readFile(path.join(base, 'two', name))).toEqual(await readFile(path.join(base, 'plain', name)));
+    }
+    // poppler's pdfinfo (Debian poppler-utils) as the outside check: one page per usable card.
+    expect(spawnSync('pdfinfo', [path.join(base, 'two', 'cache-deck.pdf')], { encoding: 'utf8' }).stdout).toMatch(/Pages:\s+3\n/);
+    expect(spawnSync('unzip', ['-t', path.join(base, 'two', 'bundle.zip')], { encoding: 'utf8' }).status).toBe(0);
+    // Nothing else is left in the folder.
+    expect((await readdir(path.join(base, 'two'))).sort()).toEqual(['bundle.zip', 'cache-deck.pdf', 'cards', 'report.csv', 'report.json']);
+  });
+
   it('remembers rejected art too', async () => {
     const base = await mkdtemp(path.join(tmpdir(), 'bw-cache-'));
     const cacheDir = path.join(base, 'cache');
