@@ -40,6 +40,30 @@ export async function loadRun(rt: RunsRuntime, runId: string): Promise<LoadedRun
   };
 }
 
+/** What a render needs of its run that never changes once the run exists. */
+export type RunFacts = Omit<LoadedRun, 'run'> & { runId: string; workspaceId: string };
+
+// Renders of one run ask for the same facts 200 times: each process loads them once per run (two round
+// trips saved per card). The run's state is not among them: the claim checks it.
+const RUN_FACTS_KEPT = 32;
+const facts = new Map<string, Promise<RunFacts | null>>();
+
+export function loadRunFacts(rt: RunsRuntime, runId: string): Promise<RunFacts | null> {
+  const kept = facts.get(runId);
+  if (kept) return kept;
+  const loading = loadRun(rt, runId).then((loaded) => {
+    if (!loaded) return null;
+    const { run, ...rest } = loaded;
+    return { ...rest, runId: run.id, workspaceId: run.workspace_id };
+  });
+  facts.set(runId, loading);
+  // A failed or missing load is not kept: the next card asks again.
+  const forget = () => facts.get(runId) === loading && facts.delete(runId);
+  loading.then((f) => f ?? forget(), forget);
+  while (facts.size > RUN_FACTS_KEPT) facts.delete(facts.keys().next().value!);
+  return loading;
+}
+
 /** Opens the run's zip from a local copy (the stored file itself on local disk; else fetched once). */
 export async function openRunArtSet(rt: RunsRuntime, loaded: LoadedRun): Promise<ArtSet> {
   return openArtSet(await rt.storage.fetchFile(loaded.zipKey, rt.config.workDir));

@@ -1,17 +1,59 @@
-import { countCards } from '../../server/db/run-cards.ts';
-import { updateRun } from '../../server/db/runs.ts';
+import { openCardsLeft, refreshCounts } from '../../server/db/run-cards.ts';
 import type { RunsRuntime } from './runtime.ts';
 
 /**
- * Recounts a run's progress from its card rows and, when no card is left open on a running run,
- * asks for the assemble job (singletonKey: duplicate asks are dropped; assemble is idempotent).
+ * Recounts a run's progress from its card rows (one statement) and, when no card is left open on a
+ * running run, asks for the assemble job (singletonKey: duplicate asks are dropped; assemble is idempotent).
  */
 export async function refreshProgress(rt: RunsRuntime, runId: string): Promise<void> {
-  const counts = await countCards(rt.db, runId);
-  await updateRun(rt.db, runId, { counts: JSON.stringify(counts) });
-  if (counts.open > 0) return;
-  const run = await rt.db('runs').where({ id: runId }).first('state');
-  if (run?.state === 'running') await rt.send('run-assemble', { runId }, { singletonKey: runId, retryLimit: 3, retryDelay: 2, expireInSeconds: rt.config.assembleExpireSeconds });
+  noteWritten(runId);
+  const run = await refreshCounts(rt.db, runId);
+  if (run && run.open === 0) written.delete(runId);
+  if (run?.state === 'running' && run.open === 0) await sendAssemble(rt, runId);
+}
+
+// The counts shown while a run renders are written at most this often per run by one process (a recount
+// reads every card of the run); a settle inside the window still checks exactly whether it was the last
+// open card, and a trailing write follows so the shown progress catches up.
+const COUNTS_EVERY_MS = 200;
+const RUNS_TRACKED = 256;
+const written = new Map<string, { at: number; trailing: NodeJS.Timeout | null }>();
+
+function noteWritten(runId: string): void {
+  const entry = written.get(runId);
+  if (entry?.trailing) clearTimeout(entry.trailing);
+  written.delete(runId);
+  written.set(runId, { at: Date.now(), trailing: null });
+  while (written.size > RUNS_TRACKED) {
+    const [oldest, old] = written.entries().next().value!;
+    if (old.trailing) clearTimeout(old.trailing);
+    written.delete(oldest);
+  }
+}
+
+/**
+ * After a card of the run settled: the counts are written (at most every COUNTS_EVERY_MS), and the
+ * assemble job is asked for when no card is left open, checked exactly after every settle.
+ */
+export async function cardSettled(rt: RunsRuntime, runId: string): Promise<void> {
+  const entry = written.get(runId);
+  if (!entry || Date.now() - entry.at >= COUNTS_EVERY_MS) return refreshProgress(rt, runId);
+  const run = await openCardsLeft(rt.db, runId);
+  // The last card, or a run no longer running (canceled while this render ran): exact counts now.
+  if (!run || !run.open || run.state !== 'running') return refreshProgress(rt, runId);
+  if (entry.trailing) return;
+  entry.trailing = setTimeout(
+    () => {
+      entry.trailing = null;
+      refreshProgress(rt, runId).catch((err) => rt.logger.warn({ err, runId }, 'run progress could not be written'));
+    },
+    Math.max(0, entry.at + COUNTS_EVERY_MS - Date.now()),
+  );
+  entry.trailing.unref();
+}
+
+async function sendAssemble(rt: RunsRuntime, runId: string): Promise<void> {
+  await rt.send('run-assemble', { runId }, { singletonKey: runId, retryLimit: 3, retryDelay: 2, expireInSeconds: rt.config.assembleExpireSeconds });
 }
 
 /** Set on every send (not only on the queue), so each process's configured expiry applies. */

@@ -7,11 +7,11 @@ import { isBleedwrightError } from '../../shared/errors.ts';
 import { makeFinding } from '../../shared/findings.ts';
 import { openArtSet, type ArtSet } from '../engine/archive.ts';
 import { ENGINE_TAG, renderCard } from '../engine/run.ts';
-import { logRender, upsertCached } from '../../server/db/render-cache.ts';
-import { claimCard, findCard, settleCard } from '../../server/db/run-cards.ts';
+import { OPEN_CARD_STATES, claimCard, findCard, settleCard, settleRender, type RunCardRow } from '../../server/db/run-cards.ts';
+import { findRun } from '../../server/db/runs.ts';
 import { renderCacheName, storageKeys } from '../../server/storage.ts';
-import { loadRun, type LoadedRun } from './load.ts';
-import { refreshProgress } from './progress.ts';
+import { loadRunFacts, type RunFacts } from './load.ts';
+import { cardSettled, refreshProgress } from './progress.ts';
 import type { RunsRuntime } from './runtime.ts';
 
 // Opening a zip reads its whole central directory (17 ms of CPU for 200 cards, growing with the set),
@@ -21,11 +21,11 @@ import type { RunsRuntime } from './runtime.ts';
 const OPEN_SETS_KEPT = 4;
 const openSets = new Map<string, { stamp: string; set: Promise<ArtSet> }>();
 
-async function runArtSet(rt: RunsRuntime, loaded: LoadedRun): Promise<ArtSet> {
-  const file = await rt.storage.fetchFile(loaded.zipKey, rt.config.workDir);
+async function runArtSet(rt: RunsRuntime, run: RunFacts): Promise<ArtSet> {
+  const file = await rt.storage.fetchFile(run.zipKey, rt.config.workDir);
   const info = await stat(file);
   const stamp = `${file}:${info.dev}:${info.ino}:${info.size}:${info.mtimeMs}`;
-  const key = loaded.run.id;
+  const key = run.runId;
   const kept = openSets.get(key);
   if (kept && kept.stamp === stamp) return kept.set;
   const set = openArtSet(file);
@@ -39,35 +39,43 @@ async function runArtSet(rt: RunsRuntime, loaded: LoadedRun): Promise<ArtSet> {
   return set;
 }
 
-export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttempt: boolean): Promise<void> {
+/**
+ * Claims the card for this attempt when its run is running (one statement in the common case); a card
+ * of a run canceled (or failed) while it was queued is canceled instead. Undefined: nothing to render.
+ */
+async function claimForRender(rt: RunsRuntime, cardId: string): Promise<RunCardRow | undefined> {
+  const claimed = await claimCard(rt.db, cardId, { runRunning: true });
+  if (claimed) return claimed;
   const card = await findCard(rt.db, cardId);
-  if (!card || (card.state !== 'pending' && card.state !== 'rendering')) return;
-  const loaded = await loadRun(rt, card.run_id);
-  if (!loaded) return;
-  const { run, recipe } = loaded;
-  if (run.state !== 'running') {
-    // Canceled (or failed) while queued: this card will not be rendered.
-    await rt.db('run_cards').where({ id: cardId }).whereIn('state', ['pending', 'rendering']).update({ state: 'canceled', finished_at: rt.db.fn.now() });
-    await refreshProgress(rt, run.id);
-    return;
-  }
-  if (!(await claimCard(rt.db, cardId))) return;
+  if (!card || !OPEN_CARD_STATES.includes(card.state)) return;
+  const run = await findRun(rt.db, card.run_id);
+  if (!run) return;
+  if (run.state === 'running') return claimCard(rt.db, cardId);
+  await rt.db('run_cards').where({ id: cardId }).whereIn('state', OPEN_CARD_STATES).update({ state: 'canceled', finished_at: rt.db.fn.now() });
+  await refreshProgress(rt, run.id);
+}
+
+export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttempt: boolean): Promise<void> {
+  const card = await claimForRender(rt, cardId);
+  if (!card) return;
+  const run = await loadRunFacts(rt, card.run_id);
+  if (!run) return;
 
   const cacheKey = {
-    workspace_id: run.workspace_id,
-    recipe_version_id: loaded.recipeVersionId,
+    workspace_id: run.workspaceId,
+    recipe_version_id: run.recipeVersionId,
     engine: ENGINE_TAG,
     source_sha256: card.source_sha256,
     source_path: card.source,
   };
-  const key = storageKeys.render(run.workspace_id, loaded.recipeVersionId, renderCacheName(card.source_sha256, card.source, ENGINE_TAG));
+  const key = storageKeys.render(run.workspaceId, run.recipeVersionId, renderCacheName(card.source_sha256, card.source, ENGINE_TAG));
   // Rendered in this worker's own folder, then moved (or uploaded) into storage.
   const tmp = path.join(rt.config.workDir, 'tmp', `${randomBytes(8).toString('hex')}.png.part`);
   try {
     await mkdir(path.dirname(tmp), { recursive: true });
     let rendered;
     try {
-      rendered = await renderCard({ set: await runArtSet(rt, loaded), source: card.source, role: card.role, title: card.title, recipe, pngPath: tmp });
+      rendered = await renderCard({ set: await runArtSet(rt, run), source: card.source, role: card.role, title: card.title, recipe: run.recipe, pngPath: tmp });
     } catch (err) {
       // The archive refused this entry (size limits and the like): the card is skipped, the run goes on.
       if (!isBleedwrightError(err)) throw err;
@@ -75,9 +83,12 @@ export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttemp
     }
     if (rendered.pngPath) await rt.storage.putFile(key, tmp);
     const info = { ...rendered.info, renderKey: rendered.pngPath ? key : null };
-    await logRender(rt.db, run.id, cardId);
-    await upsertCached(rt.db, cacheKey, info, rendered.pngPath ? key : null);
-    await settleCard(rt.db, cardId, { state: rendered.pngPath ? 'done' : 'skipped', cached: false, outputs: [], info, findings: rendered.info.findings });
+    // Logged, cached and settled in one statement (a stale attempt logs its render but settles nothing).
+    await settleRender(
+      rt.db,
+      { runId: run.runId, cardId, cacheKey, storageKey: rendered.pngPath ? key : null },
+      { state: rendered.pngPath ? 'done' : 'skipped', outputs: [], info, findings: rendered.info.findings },
+    );
   } catch (err) {
     if (!finalAttempt) throw err;
     // Out of retries (storage unwritable, ...): the card fails with the reason and the run goes on.
@@ -86,5 +97,5 @@ export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttemp
   } finally {
     await rm(tmp, { force: true });
   }
-  await refreshProgress(rt, run.id);
+  await cardSettled(rt, run.runId);
 }

@@ -32,14 +32,5 @@ export async function findCachedMany(
     );
 }
 
-/** Records a render; a second render of the same key (a retry) keeps the first row. */
-export async function upsertCached(db: Knex, key: Key, info: unknown, storageKey: string | null): Promise<void> {
-  await db('render_cache')
-    .insert({ ...key, info: JSON.stringify(info), storage_key: storageKey })
-    .onConflict(['workspace_id', 'recipe_version_id', 'engine', 'source_sha256', 'source_path'])
-    .ignore();
-}
-
-export async function logRender(db: Knex, runId: string, cardId: string): Promise<void> {
-  await db('render_log').insert({ run_id: runId, card_id: cardId, pid: process.pid });
-}
+// A performed render is recorded here (and logged in render_log) by settleRender in run-cards.ts, in the
+// statement that settles its card.

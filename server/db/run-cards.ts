@@ -1,6 +1,6 @@
 import type { Knex } from 'knex';
 import type { Finding } from '../../shared/findings.ts';
-import type { CardState } from '../../shared/run-states.ts';
+import type { CardState, RunState } from '../../shared/run-states.ts';
 import type { RunCounts } from './runs.ts';
 
 export interface RunCardRow {
@@ -49,13 +49,14 @@ export async function findCard(db: Knex, id: string): Promise<RunCardRow | undef
   return db<RunCardRow>('run_cards').where({ id }).first();
 }
 
-/** Claims a card for a render attempt; undefined when it is already settled. */
-export async function claimCard(db: Knex, id: string): Promise<RunCardRow | undefined> {
-  const [row] = await db<RunCardRow>('run_cards')
-    .where({ id })
-    .whereIn('state', OPEN_CARD_STATES)
-    .update({ state: 'rendering', attempt: db.raw('attempt + 1') as unknown as number })
-    .returning('*');
+/**
+ * Claims a card for a render attempt; undefined when it is already settled or, with `runRunning`, when
+ * its run is not running (one round trip for the common case; the caller then looks at why).
+ */
+export async function claimCard(db: Knex, id: string, opts: { runRunning?: boolean } = {}): Promise<RunCardRow | undefined> {
+  const query = db<RunCardRow>('run_cards').where({ id }).whereIn('state', OPEN_CARD_STATES);
+  if (opts.runRunning) query.whereExists(db('runs').whereRaw('runs.id = run_cards.run_id').where('runs.state', 'running').select(db.raw('1')));
+  const [row] = await query.update({ state: 'rendering', attempt: db.raw('attempt + 1') as unknown as number }).returning('*');
   return row;
 }
 
@@ -77,6 +78,40 @@ export async function settleCard(
       finished_at: db.fn.now(),
     });
   return count > 0;
+}
+
+/**
+ * A render performed: logs it, records it in the render cache (a second render of the same key keeps the
+ * first row) and settles the card unless it is already settled, in one statement (one round trip, all or
+ * nothing). Returns whether this attempt settled the card.
+ */
+export async function settleRender(
+  db: Knex,
+  render: {
+    runId: string;
+    cardId: string;
+    cacheKey: { workspace_id: string; recipe_version_id: string; engine: string; source_sha256: string; source_path: string };
+    storageKey: string | null;
+  },
+  result: Pick<RunCardRow, 'state' | 'outputs' | 'info' | 'findings'>,
+): Promise<boolean> {
+  const k = render.cacheKey;
+  const info = result.info === null ? null : JSON.stringify(result.info);
+  const updated = await db.raw(
+    `with logged as (insert into render_log (run_id, card_id, pid) values (?, ?, ?)),
+          cached as (
+            insert into render_cache (workspace_id, recipe_version_id, engine, source_sha256, source_path, info, storage_key)
+            values (?, ?, ?, ?, ?, ?::jsonb, ?)
+            on conflict (workspace_id, recipe_version_id, engine, source_sha256, source_path) do nothing)
+     update run_cards set state = ?, cached = false, outputs = ?::jsonb, info = ?::jsonb, findings = ?::jsonb, finished_at = now()
+      where id = ? and state in ('pending', 'rendering')`,
+    [
+      render.runId, render.cardId, process.pid,
+      k.workspace_id, k.recipe_version_id, k.engine, k.source_sha256, k.source_path, info, render.storageKey,
+      result.state, JSON.stringify(result.outputs), info, JSON.stringify(result.findings), render.cardId,
+    ],
+  );
+  return (updated.rowCount ?? 0) > 0;
 }
 
 /**
@@ -113,31 +148,42 @@ export async function cancelOpenCards(db: Knex, runId: string): Promise<void> {
   await db('run_cards').where({ run_id: runId }).whereIn('state', ['pending']).update({ state: 'canceled', finished_at: db.fn.now() });
 }
 
+// A run's progress as stored in runs.counts (RunCounts plus `open`), counted from its card rows.
+const severity = (level: string) => `coalesce(sum((select count(*) from jsonb_array_elements(findings) f where f->>'severity' = '${level}')), 0)::int`;
+const COUNTS_JSON = `jsonb_build_object(
+  'total', count(*)::int,
+  'done', count(*) filter (where state = 'done')::int,
+  'skipped', count(*) filter (where state = 'skipped')::int,
+  'failed', count(*) filter (where state = 'failed')::int,
+  'canceled', count(*) filter (where state = 'canceled')::int,
+  'cached', count(*) filter (where cached)::int,
+  'open', count(*) filter (where state in ('pending', 'rendering'))::int,
+  'findings', jsonb_build_object('info', ${severity('info')}, 'warn', ${severity('warn')}, 'error', ${severity('error')}))`;
+
 /** Progress counted from the card rows (never added up blindly, so retries cannot double count). */
 export async function countCards(db: Knex, runId: string): Promise<RunCounts & { open: number }> {
-  const row = await db('run_cards')
-    .where({ run_id: runId })
-    .select(
-      db.raw('count(*)::int as total'),
-      db.raw(`count(*) filter (where state = 'done')::int as done`),
-      db.raw(`count(*) filter (where state = 'skipped')::int as skipped`),
-      db.raw(`count(*) filter (where state = 'failed')::int as failed`),
-      db.raw(`count(*) filter (where state = 'canceled')::int as canceled`),
-      db.raw(`count(*) filter (where cached)::int as cached`),
-      db.raw(`count(*) filter (where state in ('pending', 'rendering'))::int as open`),
-      db.raw(`coalesce(sum((select count(*) from jsonb_array_elements(findings) f where f->>'severity' = 'info')), 0)::int as f_info`),
-      db.raw(`coalesce(sum((select count(*) from jsonb_array_elements(findings) f where f->>'severity' = 'warn')), 0)::int as f_warn`),
-      db.raw(`coalesce(sum((select count(*) from jsonb_array_elements(findings) f where f->>'severity' = 'error')), 0)::int as f_error`),
-    )
-    .first();
-  return {
-    total: row.total,
-    done: row.done,
-    skipped: row.skipped,
-    failed: row.failed,
-    canceled: row.canceled,
-    cached: row.cached,
-    open: row.open,
-    findings: { info: row.f_info, warn: row.f_warn, error: row.f_error },
-  };
+  const { rows } = await db.raw(`select ${COUNTS_JSON} as counts from run_cards where run_id = ?`, [runId]);
+  return rows[0].counts;
+}
+
+/**
+ * Recounts a run's progress into runs.counts in one statement; returns the run's state and how many of
+ * its cards are still open (undefined when the run is gone).
+ */
+export async function refreshCounts(db: Knex, runId: string): Promise<{ state: RunState; open: number } | undefined> {
+  const { rows } = await db.raw(
+    `update runs r set counts = c.counts from (select ${COUNTS_JSON} as counts from run_cards where run_id = ?) c
+      where r.id = ? returning r.state, (r.counts->>'open')::int as open`,
+    [runId, runId],
+  );
+  return rows[0];
+}
+
+/** Whether any card of the run is still open, and the run's state: exact, without recounting. */
+export async function openCardsLeft(db: Knex, runId: string): Promise<{ state: RunState; open: boolean } | undefined> {
+  const { rows } = await db.raw(
+    `select r.state, exists (select 1 from run_cards c where c.run_id = r.id and c.state in ('pending', 'rendering')) as open from runs r where r.id = ?`,
+    [runId],
+  );
+  return rows[0];
 }
