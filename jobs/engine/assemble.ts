@@ -1,6 +1,6 @@
 // Assembly: from rendered cards to the deck's outputs (singles, combined PDF, sheets, proof, report,
 // bundle). The pg-boss assemble job and the CLI's runEngine both call assembleOutputs.
-import { chmod, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { chmod, lstat, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
@@ -110,9 +110,12 @@ export async function assembleOutputs(opts: {
   const outputsBySource = new Map<string, string[]>();
   const slug = slugify(recipe.name);
   const pdfFile = `${RESERVED_PDF_NAMES.has(slug) ? `${slug}-deck` : slug}.pdf`;
-  // The last run's PDF and bundle go first, while the singles are linked: a rename over a large file
-  // whose pages are cached frees them inside the rename (about 0.4 ms a MB), at the very end of a run.
-  const clearing = Promise.all([rm(inside(outDir, 'bundle.zip'), { force: true }), rm(inside(outDir, pdfFile), { force: true })]);
+  // The last run's PDF and bundle leave their names first: written over by this run's (see retireOutput),
+  // or removed while the singles are linked (a rename over a large file whose pages are cached frees
+  // them inside the rename, about 0.4 ms a MB, at the very end of a run).
+  const clearing = Promise.all(
+    await Promise.all([retireOutput(inside(outDir, 'bundle.zip'), true), retireOutput(inside(outDir, pdfFile), recipe.outputs.pdf && fronts.length > 0)]),
+  );
   clearing.catch(() => undefined);
   const cardsDir = inside(outDir, 'cards');
   await rm(cardsDir, { recursive: true, force: true });
@@ -296,6 +299,28 @@ export async function assembleOutputs(opts: {
   for (const r of [pdfDone, rest, bundle]) if (r.status === 'rejected') throw r.reason;
   onProgress?.({ phase: 'bundle', done: 1, total: 1 });
   return (rest as PromiseFulfilledResult<RunReport>).value;
+}
+
+/**
+ * Takes the last run's output `file` off its name. When this run writes the same output and the file is
+ * its own (a regular file with one link: nobody else's copy), it becomes the writer's temp file, which
+ * the writer then writes over (FileSink.create) and renames into place when done; otherwise it is
+ * removed. Settles once the name is free, with the promise of a removal still going on.
+ */
+async function retireOutput(file: string, reuse: boolean): Promise<Promise<void>> {
+  try {
+    const info = await lstat(file);
+    if (reuse && info.isFile() && info.nlink === 1) {
+      await rename(file, `${file}.tmp`);
+      return Promise.resolve();
+    }
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === 'ENOENT') return Promise.resolve();
+    throw err;
+  }
+  const removing = rm(file, { force: true });
+  removing.catch(() => undefined);
+  return removing;
 }
 
 // A fixed time stamp for every bundle entry, so the same outputs always make the same zip bytes.

@@ -58,9 +58,22 @@ export class FileSink {
     private readonly mirror: ByteMirror | null,
   ) {}
 
-  /** With `mirror`, every byte written also goes to it, in order, from the same Buffers (see ByteMirror). */
+  /**
+   * With `mirror`, every byte written also goes to it, in order, from the same Buffers (see ByteMirror).
+   * A file already at `file` is written over, not emptied first, and cut to length by `close`: its
+   * pages in the page cache are reused instead of new ones taken. On the VMs measured here, fresh page
+   * cache was the slow part of writing outputs (~2 ms a MB against ~0.15 ms a MB written over), so an
+   * assembly passes the last run's file in (see assembleOutputs).
+   */
   static async create(file: string, mirror: ByteMirror | null = null): Promise<FileSink> {
-    return new FileSink(await open(file, 'w'), mirror);
+    let fh: FileHandle;
+    try {
+      fh = await open(file, 'r+');
+    } catch (err) {
+      if ((err as NodeJS.ErrnoException).code !== 'ENOENT') throw err;
+      fh = await open(file, 'w');
+    }
+    return new FileSink(fh, mirror);
   }
 
   /** The open file, for positioned writes into a part of it this sink skips (see `skip`). */
@@ -122,6 +135,8 @@ export class FileSink {
     try {
       await this.writev([]);
       await this.drain();
+      // Whatever an older, longer file held past the end goes.
+      await this.fh.truncate(this.offset);
     } finally {
       await this.fh.close();
     }
