@@ -13,7 +13,7 @@ import { assembleOutputs, inside, writeAtomic, type Progress, type RenderedCard 
 import { entryFingerprint, imagePaths, openArtSet, readEntry, type ArchiveLimits, type ArtSet, type SkippedEntry } from './archive.ts';
 import { conformCard } from './conform.ts';
 import { markDuplicates } from './preflight.ts';
-import { mapLimited } from '../../shared/map-limited.ts';
+import { limiter, mapLimited } from '../../shared/map-limited.ts';
 import type { RunReport } from './report.ts';
 
 export { assembleOutputs, writeBundle, type Progress, type RenderedCard } from './assemble.ts';
@@ -195,21 +195,17 @@ export async function runEngine(opts: {
     let done = 0;
     onProgress?.({ phase: 'cards', done, total: sources.length });
     const pngPathOf = (i: number) => inside(workDir, `${String(i).padStart(5, '0')}.png`);
-    // Cached cards are looked up first (a small file read each), then every slot renders the rest: a
-    // rerun's few changed cards render side by side, not one at a time between cached ones.
-    const found = await mapLimited(sources, CACHE_READS_AT_ONCE, async (s, i) => {
-      const card = await findCachedRender({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir });
-      if (card) onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
-      return card;
-    });
-    const missing = sources.flatMap((s, i) => (found[i] ? [] : [{ s, i }]));
-    const rendered = await mapLimited(missing, CARDS_IN_FLIGHT, async ({ s, i }) => {
-      const card = await conformAndKeep({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir });
+    // Cards are looked up in the render cache several at once (a small file read each), and each one
+    // missing joins the render queue at once: a rerun's few changed cards render side by side while the
+    // lookups go on, not one at a time between cached ones.
+    const renders = limiter(CARDS_IN_FLIGHT);
+    const cards = await mapLimited(sources, CACHE_READS_AT_ONCE, async (s, i) => {
+      const card =
+        (await findCachedRender({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir })) ??
+        (await renders(() => conformAndKeep({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir })));
       onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
       return card;
     });
-    const cards = found.slice() as RenderedCard[];
-    missing.forEach(({ i }, n) => (cards[i] = rendered[n]!));
     const report = await assembleOutputs({
       recipe,
       outDir,
