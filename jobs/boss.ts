@@ -20,6 +20,9 @@ if (!managerProto.__bwHandled) {
   managerProto.__bwHandled = true;
 }
 
+/** The send options pg-boss 10's insert() honours. */
+export type ManyOptions = Pick<PgBoss.JobInsert, 'singletonKey' | 'retryLimit' | 'retryDelay' | 'retryBackoff' | 'expireInSeconds' | 'priority' | 'startAfter'>;
+
 export interface Queue {
   boss: PgBoss;
   /** Sends a job and returns its id; throws when pg-boss drops it (missing queue or singleton). */
@@ -29,6 +32,11 @@ export interface Queue {
    * duplicate (singletonKey). Workers in other processes still find it at their next poll.
    */
   offer(name: string, data: object, options?: PgBoss.SendOptions): Promise<string | null>;
+  /**
+   * offer() for many jobs of one queue in one statement (pg-boss insert: the same singletonKey, retry and
+   * expiry options as send); returns how many were accepted (duplicates of a singletonKey are dropped).
+   */
+  offerMany(name: string, jobs: ReadonlyArray<{ data: object; options?: ManyOptions }>): Promise<number>;
   /** True when the queue tables answer. */
   healthy(): Promise<boolean>;
   stop(): Promise<void>;
@@ -87,6 +95,21 @@ export async function startQueue(opts: {
       // A worker already busy just fetches again when it finishes; an idle one without a job fetches nothing.
       if (id) for (const workerId of local.get(name) ?? []) boss.notifyWorker(workerId);
       return id;
+    },
+    async offerMany(name, jobs) {
+      if (jobs.length === 0) return 0;
+      // Typed as void, insert() returns the ids of the jobs it inserted (null when none).
+      const ids = (await boss.insert(
+        jobs.map(({ data, options = {} }) => ({
+          name,
+          data,
+          ...options,
+          // insert() reads whole seconds (send() also takes fractions); never less than one.
+          ...(options.expireInSeconds === undefined ? {} : { expireInSeconds: Math.max(1, Math.ceil(options.expireInSeconds)) }),
+        })),
+      )) as unknown as string[] | null;
+      if (ids) for (const workerId of local.get(name) ?? []) boss.notifyWorker(workerId);
+      return ids?.length ?? 0;
     },
     async healthy() {
       try {

@@ -44,6 +44,7 @@ installRunsRuntime({
   publicUrl: () => process.env.BLEEDWRIGHT_PUBLIC_URL ?? `http://127.0.0.1:${process.env.PORT ?? 4400}`,
   logger,
   send: (name, data, options = {}) => queue!.offer(name, data, options),
+  sendMany: (name, jobs) => queue!.offerMany(name, jobs),
 });
 queue = await startQueue({
   databaseUrl,

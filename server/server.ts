@@ -9,7 +9,7 @@ import { createLogger, type Logger } from './logger.ts';
 import { createSmtpMailer } from './mail.ts';
 import { startMailCatcher, type MailCatcher } from './mail-catcher.ts';
 import { seedDemo, seedRunsDemo, type DemoAccount } from './seed.ts';
-import { startQueue, type Queue } from '../jobs/boss.ts';
+import { startQueue, type ManyOptions, type Queue } from '../jobs/boss.ts';
 import { installRunsRuntime, runsConfigFromEnv, type RunsConfig } from '../jobs/runs/runtime.ts';
 import { localStorage, type Storage } from './storage.ts';
 import { startInbox, type Inbox } from './services/inbox.ts';
@@ -71,9 +71,13 @@ export async function startServer(opts: ServerOptions): Promise<RunningServer> {
     if (!queueRef) throw new Error('The job queue is not started yet');
     return queueRef.offer(name, data, options);
   };
+  const sendMany = async (name: string, jobs: ReadonlyArray<{ data: object; options?: ManyOptions }>) => {
+    if (!queueRef) throw new Error('The job queue is not started yet');
+    return queueRef.offerMany(name, jobs);
+  };
   let publicUrl = opts.publicUrl ?? '';
   // The run jobs read this runtime; installed before pg-boss starts working queues in this process.
-  installRunsRuntime({ db, storage, config: runsConfig, mailer, publicUrl: () => publicUrl, logger, send });
+  installRunsRuntime({ db, storage, config: runsConfig, mailer, publicUrl: () => publicUrl, logger, send, sendMany });
   const queue = await startQueue({
     databaseUrl: opts.databaseUrl,
     work: opts.work,

@@ -31,6 +31,9 @@ export function diffCards(previous: ReadonlyArray<{ source: string; source_sha25
   return diff;
 }
 
+// Render jobs sent per statement: a big set's first renders start without waiting for all its jobs.
+const RENDER_JOBS_PER_INSERT = 500;
+
 // Storage existence checks run this many at once (a round trip each on S3).
 const STORAGE_CHECKS_AT_ONCE = 16;
 
@@ -115,9 +118,11 @@ export async function planRun(rt: RunsRuntime, runId: string): Promise<void> {
   }
   // One statement for every cached card (195 of 200 on a typical rerun), not one round trip each.
   await settleCards(rt.db, settled);
-  for (const cardId of toRender) {
-    // A duplicate send (a retried plan) is dropped by the singleton key; the render is idempotent anyway.
-    await rt.send('run-render', { cardId }, { singletonKey: cardId, ...renderJobOptions(rt) });
+  // A few statements for all the render jobs, not a round trip each; renders start after the first.
+  // A duplicate (a retried plan) is dropped by the singleton key; the render is idempotent anyway.
+  for (let i = 0; i < toRender.length; i += RENDER_JOBS_PER_INSERT) {
+    const batch = toRender.slice(i, i + RENDER_JOBS_PER_INSERT);
+    await rt.sendMany('run-render', batch.map((cardId) => ({ data: { cardId }, options: { singletonKey: cardId, ...renderJobOptions(rt) } })));
   }
   await refreshProgress(rt, runId);
 }

@@ -6,6 +6,7 @@ import sharp from 'sharp';
 import type { Logger } from '../../server/logger.ts';
 import type { Mailer } from '../../server/mail.ts';
 import type { Storage } from '../../server/storage.ts';
+import type { ManyOptions } from '../boss.ts';
 
 export interface RunsConfig {
   /** Render jobs worked at once in one process. */
@@ -66,6 +67,8 @@ export interface RunsRuntime {
   logger: Logger;
   /** Sends a job; null when pg-boss dropped it as a duplicate (singletonKey). */
   send: (name: string, data: object, options?: Record<string, unknown>) => Promise<string | null>;
+  /** Sends many jobs of one queue in one statement; returns how many were accepted. */
+  sendMany: (name: string, jobs: ReadonlyArray<{ data: object; options?: ManyOptions }>) => Promise<number>;
 }
 
 let installed: RunsRuntime | null = null;
