@@ -181,7 +181,7 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   log(`\n${n} cards`);
   log('  A  bleedwright run (CLI) ...');
   settleDisk();
-  const a = await measure('node', ['bin/bleedwright.js', 'run', zip, '--recipe', recipePath, '--out', out('a')], { cwd: ROOT, env });
+  const a = await measure('node', ['bin/bleedwright.js', 'run', zip, '--recipe', recipePath, '--out', out('a'), '--timings'], { cwd: ROOT, env });
   mustSucceed(a, 'A (bleedwright run)');
   const aSingles = await filesBytes(path.join(out('a'), 'cards'));
   const report = JSON.parse(await readFile(path.join(out('a'), 'report.json'), 'utf8'));
@@ -222,18 +222,18 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   const bSide = b ? sideOf(b, n, await filesBytes(path.join(out('b'), 'cards')), (await statSize(path.join(out('b'), 'deck.pdf'))) ?? 0) : null;
   const cSide = c ? sideOf(c, n, await filesBytes(path.join(out('c'), 'cards')), (await statSize(path.join(out('c'), 'deck.pdf'))) ?? 0) : null;
 
-  let rerun: { wallMs: number; share: number; cpuMs: number; cpuShare: number; changed: number; rendered: number } | null = null;
+  let rerun: { wallMs: number; share: number; cpuMs: number; cpuShare: number; changed: number; rendered: number; steps: Steps | null } | null = null;
   const fixedZip = doRerun ? await changedSetOf(all, n) : null;
   if (fixedZip) {
     log(`  A  rerun with ${RERUN_CHANGED} of ${n} cards changed ...`);
     const rendersBefore = await countRenders(cacheDir);
     settleDisk();
-    const r = await measure('node', ['bin/bleedwright.js', 'run', fixedZip, '--recipe', recipePath, '--out', out('a')], { cwd: ROOT, env });
+    const r = await measure('node', ['bin/bleedwright.js', 'run', fixedZip, '--recipe', recipePath, '--out', out('a'), '--timings'], { cwd: ROOT, env });
     mustSucceed(r, 'A rerun');
     // The rerun must have rendered exactly the changed cards (each new render adds one file to the cache).
     const rendered = (await countRenders(cacheDir)) - rendersBefore;
     if (rendered !== RERUN_CHANGED) fail(`the rerun rendered ${rendered} cards, not the ${RERUN_CHANGED} changed ones`);
-    rerun = { wallMs: Math.round(r.wallMs), share: round(r.wallMs / a.wallMs, 3), cpuMs: r.cpuMs, cpuShare: round(r.cpuMs / a.cpuMs, 3), changed: RERUN_CHANGED, rendered };
+    rerun = { wallMs: Math.round(r.wallMs), share: round(r.wallMs / a.wallMs, 3), cpuMs: r.cpuMs, cpuShare: round(r.cpuMs / a.cpuMs, 3), changed: RERUN_CHANGED, rendered, steps: stepsOf(r) };
   }
 
   let aWorkers: (WorkersResult & { msPerCard: number; cpuMsPerCard: number; peakMB: number; overB: number | null; overC: number | null; rerunShare: number | null }) | null = null;
@@ -258,13 +258,20 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   for (const name of ['b', 'c']) await rm(out(name), { recursive: true, force: true });
   return {
     cards: n,
-    A: { ...sideOf(a, n, aSingles, aPdfBytes), pdfMsPerPage: round(pdfMsPerPage, 2), pdfCpuMsPerPage: round(pdfCpuMsPerPage, 2), pdfOverSingles: round(aPdfBytes / aSingles.bytes - 1, 4), qpdfCheck: qpdf.status === 0 },
+    A: { ...sideOf(a, n, aSingles, aPdfBytes), steps: stepsOf(a), pdfMsPerPage: round(pdfMsPerPage, 2), pdfCpuMsPerPage: round(pdfCpuMsPerPage, 2), pdfOverSingles: round(aPdfBytes / aSingles.bytes - 1, 4), qpdfCheck: qpdf.status === 0 },
     B: bSide,
     C: cSide,
     ratios: b && c ? { aOverB: round(a.wallMs / b.wallMs, 3), aOverC: round(a.wallMs / c.wallMs, 3), aCpuOverBCpu: round(a.cpuMs / b.cpuMs, 3), aCpuOverCCpu: round(a.cpuMs / c.cpuMs, 3) } : null,
     rerun,
     workers: aWorkers,
   };
+}
+
+/** Where a CLI run's time went: the `timings:` line `bleedwright run --timings` prints on stderr. */
+type Steps = { startMs: number; artSetMs: number; cardsMs: number; assemblyMs: number };
+function stepsOf(m: Measured): Steps | null {
+  const t = /timings: start (\d+) ms, art set (\d+) ms, cards (\d+) ms, assembly (\d+) ms/.exec(m.stderr);
+  return t ? { startMs: Number(t[1]), artSetMs: Number(t[2]), cardsMs: Number(t[3]), assemblyMs: Number(t[4]) } : null;
 }
 
 async function countRenders(cacheDir: string): Promise<number> {
@@ -344,6 +351,11 @@ function printTable(sizes: SizeResult[], results: Check[]): void {
   const widths = rows[0]!.map((_, i) => Math.max(...rows.map((r) => r[i]!.length)));
   log('');
   for (const r of rows) log(r.map((cell, i) => cell.padEnd(widths[i]!)).join('  '));
+  const stepsLine = (st: Steps | null) => (st ? `start ${st.startMs} ms, art set ${st.artSetMs} ms, cards ${st.cardsMs} ms, assembly ${st.assemblyMs} ms` : 'not printed');
+  for (const s of sizes) {
+    log(`\n${s.cards}: A's steps: ${stepsLine(s.A.steps)}`);
+    if (s.rerun) log(`${s.cards}: A rerun's steps: ${stepsLine(s.rerun.steps)}`);
+  }
   log('\nTargets');
   for (const c of results) log(`  ${c.met ? 'met   ' : 'MISSED'}  ${c.target}: ${c.value} (limit ${c.limit})${c.missedBy ? `, ${c.missedBy}` : ''}`);
 }

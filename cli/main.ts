@@ -70,13 +70,20 @@ export function buildProgram(): Command {
     .argument('<source>', 'art set: a .zip file or a folder of card images')
     .requiredOption('--recipe <file>', 'recipe JSON file (see `bleedwright recipe --example`)')
     .requiredOption('--out <dir>', 'output folder')
-    .action(async (source: string, opts: { recipe: string; out: string }) => {
+    .option('--timings', 'also print on stderr how long each step took (start, art set, cards, assembly)')
+    .action(async (source: string, opts: { recipe: string; out: string; timings?: boolean }) => {
       const recipe = await loadRecipe(opts.recipe);
       const progress = progressReporter();
       try {
+        const engineStart = performance.now();
         const result = await runEngine({ source, recipe, outDir: opts.out, onProgress: progress.onProgress });
         progress.stop();
         process.stdout.write(formatRunSummary(result.report, result.outDir));
+        if (opts.timings) {
+          // performance.now() counts from the process's start: what came before the engine is start-up.
+          const t = result.timings;
+          process.stderr.write(`timings: start ${Math.round(engineStart)} ms, art set ${t.openMs} ms, cards ${t.cardsMs} ms, assembly ${t.assemblyMs} ms\n`);
+        }
         process.exitCode = result.exitCode;
       } finally {
         progress.stop();

@@ -37,6 +37,8 @@ const CACHE_READS_AT_ONCE = 16;
 
 export type RunResult = {
   report: RunReport;
+  /** Wall time of each step, in ms: opening the art set, the cards (cache lookups and renders), assembly. */
+  timings: { openMs: number; cardsMs: number; assemblyMs: number };
   /** 0 every card produced, 1 some cards skipped (the report says why). */
   exitCode: 0 | 1;
   outDir: string;
@@ -184,7 +186,9 @@ export async function runEngine(opts: {
   const { recipe, onProgress } = opts;
   const cacheDir = opts.cacheDir === undefined ? process.env.BLEEDWRIGHT_CACHE_DIR || null : opts.cacheDir;
   if (cacheDir) await mkdir(cacheDir, { recursive: true });
+  const started = performance.now();
   const set = await openArtSet(opts.source, opts.limits);
+  const opened = performance.now();
   const sources = cardSources(set, recipe);
   const outDir = path.resolve(opts.outDir);
   await mkdir(outDir, { recursive: true });
@@ -206,6 +210,7 @@ export async function runEngine(opts: {
       onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
       return card;
     });
+    const rendered = performance.now();
     const report = await assembleOutputs({
       recipe,
       outDir,
@@ -216,7 +221,9 @@ export async function runEngine(opts: {
       onProgress,
       rendersShared: cacheDir !== null,
     });
-    return { report, exitCode: report.totals.cardsSkipped > 0 ? 1 : 0, outDir };
+    const ms = (from: number, to: number) => Math.round(to - from);
+    const timings = { openMs: ms(started, opened), cardsMs: ms(opened, rendered), assemblyMs: ms(rendered, performance.now()) };
+    return { report, exitCode: report.totals.cardsSkipped > 0 ? 1 : 0, outDir, timings };
   } finally {
     await rm(workDir, { recursive: true, force: true });
   }

@@ -158,6 +158,14 @@ describe('one bad file never sinks a run', () => {
     expect(report.totals).toMatchObject({ cards: 2, cardsSkipped: 1, pages: 2 });
     expect((await readdir(path.join(out, 'cards'))).sort()).toEqual(['card-1.png', 'card-2.png']);
     expect(run('pdfinfo', [path.join(out, 'garbage-test.pdf')]).stdout).toMatch(/Pages:\s+2\n/);
+
+    // --timings adds one line on stderr saying where the time went; stdout is the same summary.
+    const timed = cli('run', set, '--recipe', recipe, '--out', out, '--timings');
+    expect(timed.status).toBe(1);
+    expect(timed.stdout).toBe(r.stdout);
+    const t = /^timings: start (\d+) ms, art set (\d+) ms, cards (\d+) ms, assembly (\d+) ms\n$/.exec(timed.stderr);
+    expect(t, timed.stderr).not.toBeNull();
+    expect(Number(t![1])).toBeGreaterThan(0); // a Node.js process takes some time to start
   });
 });
 
