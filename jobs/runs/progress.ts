@@ -42,18 +42,23 @@ export async function cardSettled(rt: RunsRuntime, runId: string): Promise<void>
   // The last card, or a run no longer running (canceled while this render ran): exact counts now.
   if (!run || !run.open || run.state !== 'running') return refreshProgress(rt, runId);
   if (entry.trailing) return;
+  // Counts only: the assemble job is asked for by the settle that saw no card left open, never by a timer.
   entry.trailing = setTimeout(
     () => {
       entry.trailing = null;
-      refreshProgress(rt, runId).catch((err) => rt.logger.warn({ err, runId }, 'run progress could not be written'));
+      noteWritten(runId);
+      refreshCounts(rt.db, runId).catch((err) => rt.logger.warn({ err, runId }, 'run progress could not be written'));
     },
     Math.max(0, entry.at + COUNTS_EVERY_MS - Date.now()),
   );
   entry.trailing.unref();
 }
 
+// Two last cards settling at once (in two processes) both see none left open and both ask. The job id is
+// the run's, so the second ask is dropped even when the first job is already being worked (a singletonKey
+// only drops a duplicate of a job still queued).
 async function sendAssemble(rt: RunsRuntime, runId: string): Promise<void> {
-  await rt.send('run-assemble', { runId }, { singletonKey: runId, retryLimit: 3, retryDelay: 2, expireInSeconds: rt.config.assembleExpireSeconds });
+  await rt.send('run-assemble', { runId }, { id: runId, singletonKey: runId, retryLimit: 3, retryDelay: 2, expireInSeconds: rt.config.assembleExpireSeconds });
 }
 
 /** Set on every send (not only on the queue), so each process's configured expiry applies. */
