@@ -67,8 +67,8 @@ export interface RunsRuntime {
   logger: Logger;
   /** Sends a job; null when pg-boss dropped it as a duplicate (singletonKey). */
   send: (name: string, data: object, options?: Record<string, unknown>) => Promise<string | null>;
-  /** Sends many jobs of one queue in one statement; returns how many were accepted. */
-  sendMany: (name: string, jobs: ReadonlyArray<{ data: object; options?: ManyOptions }>) => Promise<number>;
+  /** Sends many jobs of one queue in one statement (duplicates of a singletonKey are dropped). */
+  sendMany: (name: string, jobs: ReadonlyArray<{ data: object; options?: ManyOptions }>) => Promise<void>;
 }
 
 let installed: RunsRuntime | null = null;

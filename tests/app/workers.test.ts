@@ -1,6 +1,7 @@
 // Worker processes (`npm run worker`, here `node --import tsx jobs/worker-main.ts`) against the same
 // database, storage and job schema as the app: one is killed with SIGKILL mid-run and another finishes
-// the run with every card exactly once; two together finish a run with no card rendered twice.
+// the run with every card exactly once; two together finish a run with no card rendered twice; workers
+// that would poll only once a minute are woken by the jobs other processes send.
 import { execFileSync, type ChildProcess } from 'node:child_process';
 import { readFile } from 'node:fs/promises';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
@@ -104,5 +105,21 @@ describe('worker processes', () => {
     expect(pids.has(process.pid)).toBe(false); // the app process does not work jobs here
     expect((await server.deps.db('run_cards').where({ run_id: runId, state: 'done' })).length).toBe(CARDS);
     expect((await runMail(runId)).text).toContain(`Cards: ${CARDS} (done ${CARDS}`);
+  });
+
+  it('a worker that polls once a minute is woken by a run the app sends, and by renders another worker plans', async () => {
+    const CARDS = 12;
+    // Neither worker would find a job by polling within this test: each is woken by a NOTIFY (LISTEN on
+    // its own connection) from the process that sent the job, the app (run-plan) or the other worker (run-render).
+    const slow = { BLEEDWRIGHT_RENDER_EXPIRE_SECONDS: String(EXPIRE_SECONDS), BLEEDWRIGHT_JOB_POLL_SECONDS: '60' };
+    await Promise.all([startWorkerProcess({ server, storageRoot, bossSchema }, slow, children), startWorkerProcess({ server, storageRoot, bossSchema }, slow, children)]);
+    const runId = await queuedRun('Woken workers deck', CARDS, 300);
+    const run = await waitForRun(fx.actors.maker, fx.workspaceId, runId, 40_000);
+    expect(run.state).toBe('done');
+    const renders = await server.deps.db('render_log').where({ run_id: runId }).select('card_id', 'pid');
+    expect(new Set(renders.map((r) => r.card_id)).size).toBe(CARDS);
+    // Both took renders: the one that did not plan was woken by the other's render jobs.
+    expect(new Set(renders.map((r) => r.pid)).size).toBe(2);
+    expect((await runMail(runId)).subject).toMatch(/^Run done:/);
   });
 });
