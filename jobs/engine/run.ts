@@ -99,6 +99,17 @@ async function writeShared(target: string, data: Buffer | string): Promise<void>
   await rename(tmp, target);
 }
 
+/** One card of an art set to render: where its PNG goes, and the render cache to use, if any. */
+type CardToRender = {
+  set: ArtSet;
+  source: string;
+  role: 'front' | 'back';
+  title: string | null;
+  recipe: Recipe;
+  pngPath: string | null;
+  cacheDir?: string | null;
+};
+
 /**
  * Conforms one source image and writes its PNG to `pngPath` (temp name, then rename).
  *
@@ -106,28 +117,12 @@ async function writeShared(target: string, data: Buffer | string): Promise<void>
  * card rendered before is not conformed again: the returned `pngPath` is then the cached file (read it,
  * never change it) and `pngPath` is not written.
  */
-export async function renderCard(opts: {
-  set: ArtSet;
-  source: string;
-  role: 'front' | 'back';
-  title: string | null;
-  recipe: Recipe;
-  pngPath: string | null;
-  cacheDir?: string | null;
-}): Promise<RenderedCard> {
+export async function renderCard(opts: CardToRender): Promise<RenderedCard> {
   return (await findCachedRender(opts)) ?? (await conformAndKeep(opts));
 }
 
 /** The card's render when `cacheDir` holds one (see renderCard), else null. Reads no art. */
-export async function findCachedRender(opts: {
-  set: ArtSet;
-  source: string;
-  role: 'front' | 'back';
-  title: string | null;
-  recipe: Recipe;
-  pngPath: string | null;
-  cacheDir?: string | null;
-}): Promise<RenderedCard | null> {
+export async function findCachedRender(opts: CardToRender): Promise<RenderedCard | null> {
   const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
   if (!cacheDir) return null;
   const key = renderCacheKey(recipe, source, await entryFingerprint(set, source));
@@ -140,15 +135,7 @@ export async function findCachedRender(opts: {
 }
 
 /** Conforms the card and, with `cacheDir`, keeps the render there (see renderCard). */
-async function conformAndKeep(opts: {
-  set: ArtSet;
-  source: string;
-  role: 'front' | 'back';
-  title: string | null;
-  recipe: Recipe;
-  pngPath: string | null;
-  cacheDir?: string | null;
-}): Promise<RenderedCard> {
+async function conformAndKeep(opts: CardToRender): Promise<RenderedCard> {
   const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
   const key = cacheDir ? renderCacheKey(recipe, source, await entryFingerprint(set, source)) : null;
   const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
