@@ -1,7 +1,7 @@
 // The render cache behind reruns (runEngine cacheDir) and the bundle's zip writer.
 import { spawnSync } from 'node:child_process';
 import { createWriteStream } from 'node:fs';
-import { mkdir, mkdtemp, readdir, readFile, stat, writeFile } from 'node:fs/promises';
+import { link, mkdir, mkdtemp, readdir, readFile, stat, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import sharp from 'sharp';
@@ -130,6 +130,45 @@ describe('render cache', () => {
     expect(spawnSync('unzip', ['-t', path.join(base, 'two', 'bundle.zip')], { encoding: 'utf8' }).status).toBe(0);
     // Nothing else is left in the folder.
     expect((await readdir(path.join(base, 'two'))).sort()).toEqual(['bundle.zip', 'cache-deck.pdf', 'cards', 'report.csv', 'report.json']);
+  });
+
+  it('a rerun into the same folder writes over the earlier PDF and bundle: shorter or longer, the same bytes as a fresh folder', async () => {
+    const base = await mkdtemp(path.join(tmpdir(), 'bw-cache-'));
+    const out = path.join(base, 'out');
+    const colors = ['#aa2233', '#2233aa', '#33aa22', '#777777'];
+    const files = Object.fromEntries(await Promise.all(colors.map(async (c, i) => [`card-${i}.png`, await art(c)] as const)));
+    const pdf = path.join(out, 'cache-deck.pdf');
+    const bundle = path.join(out, 'bundle.zip');
+    await runEngine({ source: await artSet(files), recipe, outDir: out, cacheDir: null });
+    const first = { pdf: await stat(pdf), bundle: await stat(bundle) };
+
+    // Fewer cards: both files written over in place (same inode), cut to the new length.
+    const fewer = { 'card-0.png': files['card-0.png']!, 'card-2.png': files['card-2.png']! };
+    const fewerSet = await artSet(fewer); // one folder for both runs: the report names it
+    await runEngine({ source: fewerSet, recipe, outDir: out, cacheDir: null });
+    await runEngine({ source: fewerSet, recipe, outDir: path.join(base, 'fresh-fewer'), cacheDir: null });
+    expect((await stat(pdf)).ino).toBe(first.pdf.ino);
+    expect((await stat(bundle)).ino).toBe(first.bundle.ino);
+    expect((await stat(pdf)).size).toBeLessThan(first.pdf.size);
+    for (const name of ['bundle.zip', 'cache-deck.pdf']) {
+      expect(await readFile(path.join(out, name))).toEqual(await readFile(path.join(base, 'fresh-fewer', name)));
+    }
+    // qpdf (Debian package) and Info-ZIP unzip as outside checks of the shortened files.
+    expect(spawnSync('qpdf', ['--check', pdf], { encoding: 'utf8' }).status).toBe(0);
+    expect(spawnSync('unzip', ['-t', bundle], { encoding: 'utf8' }).status).toBe(0);
+    expect((await readdir(out)).sort()).toEqual(['bundle.zip', 'cache-deck.pdf', 'cards', 'report.csv', 'report.json']);
+
+    // Someone's hard link to the PDF (a copy they keep) is never written over: the PDF is replaced instead.
+    await link(pdf, path.join(base, 'kept.pdf'));
+    const kept = await readFile(path.join(base, 'kept.pdf'));
+    const allSet = await artSet(files);
+    await runEngine({ source: allSet, recipe, outDir: out, cacheDir: null });
+    await runEngine({ source: allSet, recipe, outDir: path.join(base, 'fresh-all'), cacheDir: null });
+    expect(await readFile(path.join(base, 'kept.pdf'))).toEqual(kept);
+    expect((await stat(pdf)).ino).not.toBe(first.pdf.ino);
+    for (const name of ['bundle.zip', 'cache-deck.pdf']) {
+      expect(await readFile(path.join(out, name))).toEqual(await readFile(path.join(base, 'fresh-all', name)));
+    }
   });
 
   it('remembers rejected art too', async () => {
