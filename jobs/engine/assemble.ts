@@ -113,9 +113,8 @@ export async function assembleOutputs(opts: {
   // The last run's PDF and bundle leave their names first: written over by this run's (see retireOutput),
   // or removed while the singles are linked (a rename over a large file whose pages are cached frees
   // them inside the rename, about 0.4 ms a MB, at the very end of a run).
-  const clearing = Promise.all(
-    await Promise.all([retireOutput(inside(outDir, 'bundle.zip'), true), retireOutput(inside(outDir, pdfFile), recipe.outputs.pdf && fronts.length > 0)]),
-  );
+  const retired = await Promise.all([retireOutput(inside(outDir, 'bundle.zip'), true), retireOutput(inside(outDir, pdfFile), recipe.outputs.pdf && fronts.length > 0)]);
+  const clearing = Promise.all(retired.map((r) => r.removed));
   clearing.catch(() => undefined);
   const cardsDir = inside(outDir, 'cards');
   await rm(cardsDir, { recursive: true, force: true });
@@ -305,22 +304,23 @@ export async function assembleOutputs(opts: {
  * Takes the last run's output `file` off its name. When this run writes the same output and the file is
  * its own (a regular file with one link: nobody else's copy), it becomes the writer's temp file, which
  * the writer then writes over (FileSink.create) and renames into place when done; otherwise it is
- * removed. Settles once the name is free, with the promise of a removal still going on.
+ * removed. Settles once the name is free; `removed` settles when a removal still going on is done (an
+ * object, not a bare promise, so the caller need not wait for it: an async function would adopt it).
  */
-async function retireOutput(file: string, reuse: boolean): Promise<Promise<void>> {
+async function retireOutput(file: string, reuse: boolean): Promise<{ removed: Promise<void> }> {
   try {
     const info = await lstat(file);
     if (reuse && info.isFile() && info.nlink === 1) {
       await rename(file, `${file}.tmp`);
-      return Promise.resolve();
+      return { removed: Promise.resolve() };
     }
   } catch (err) {
-    if ((err as NodeJS.ErrnoException).code === 'ENOENT') return Promise.resolve();
+    if ((err as NodeJS.ErrnoException).code === 'ENOENT') return { removed: Promise.resolve() };
     throw err;
   }
-  const removing = rm(file, { force: true });
-  removing.catch(() => undefined);
-  return removing;
+  const removed = rm(file, { force: true });
+  removed.catch(() => undefined);
+  return { removed };
 }
 
 // A fixed time stamp for every bundle entry, so the same outputs always make the same zip bytes.
