@@ -118,14 +118,19 @@ type CardToRender = {
  * never change it) and `pngPath` is not written.
  */
 export async function renderCard(opts: CardToRender): Promise<RenderedCard> {
-  return (await findCachedRender(opts)) ?? (await conformAndKeep(opts));
+  const key = await cacheKeyOf(opts);
+  return (await findCachedRender(opts, key)) ?? (await conformAndKeep(opts, key));
 }
 
-/** The card's render when `cacheDir` holds one (see renderCard), else null. Reads no art. */
-export async function findCachedRender(opts: CardToRender): Promise<RenderedCard | null> {
-  const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
-  if (!cacheDir) return null;
-  const key = renderCacheKey(recipe, source, await entryFingerprint(set, source));
+/** The card's render cache key when there is a cache (a folder's file is read for its fingerprint: once). */
+async function cacheKeyOf(opts: CardToRender): Promise<string | null> {
+  return opts.cacheDir ? renderCacheKey(opts.recipe, opts.source, await entryFingerprint(opts.set, opts.source)) : null;
+}
+
+/** The card's render when `cacheDir` holds one under `key` (see renderCard), else null. Reads no art. */
+async function findCachedRender(opts: CardToRender, key: string | null): Promise<RenderedCard | null> {
+  const { source, role, title, pngPath, cacheDir } = opts;
+  if (!cacheDir || !key) return null;
   const cached = await readCached(cacheDir, key);
   if (!cached) return null;
   if (!cached.png || pngPath === null) return { source, role, title, pngPath: null, info: cached.info };
@@ -134,10 +139,9 @@ export async function findCachedRender(opts: CardToRender): Promise<RenderedCard
   return { source, role, title, pngPath: cachedPng, info: cached.info, pngCrc32: typeof cached.pngCrc32 === 'number' ? cached.pngCrc32 : null };
 }
 
-/** Conforms the card and, with `cacheDir`, keeps the render there (see renderCard). */
-async function conformAndKeep(opts: CardToRender): Promise<RenderedCard> {
+/** Conforms the card and, with `cacheDir`, keeps the render there under `key` (see renderCard). */
+async function conformAndKeep(opts: CardToRender, key: string | null): Promise<RenderedCard> {
   const { set, source, role, title, recipe, pngPath, cacheDir } = opts;
-  const key = cacheDir ? renderCacheKey(recipe, source, await entryFingerprint(set, source)) : null;
   const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
   const pngCrc32 = result.png ? crc32(result.png) : null;
   if (cacheDir && key) {
@@ -191,9 +195,9 @@ export async function runEngine(opts: {
     // lookups go on, not one at a time between cached ones.
     const renders = limiter(CARDS_IN_FLIGHT);
     const cards = await mapLimited(sources, CACHE_READS_AT_ONCE, async (s, i) => {
-      const card =
-        (await findCachedRender({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir })) ??
-        (await renders(() => conformAndKeep({ set, ...s, recipe, pngPath: pngPathOf(i), cacheDir })));
+      const wanted: CardToRender = { set, ...s, recipe, pngPath: pngPathOf(i), cacheDir };
+      const key = await cacheKeyOf(wanted);
+      const card = (await findCachedRender(wanted, key)) ?? (await renders(() => conformAndKeep(wanted, key)));
       onProgress?.({ phase: 'cards', done: ++done, total: sources.length, current: s.source });
       return card;
     });
