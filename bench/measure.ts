@@ -2,7 +2,7 @@
 // waits for every descendant), and peak memory, sampled as the summed RSS of the process and all its
 // descendants (B runs two ImageMagick processes at once; their sum is what the machine must hold).
 import { spawn } from 'node:child_process';
-import { readdirSync, readFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import { mkdtemp, readFile, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -24,33 +24,42 @@ export type Measured = {
   stderr: string;
 };
 
-/** pid -> [ppid, rss bytes] for every process now; processes that vanish mid-read are skipped. */
-function processTable(): Map<number, [number, number]> {
-  const table = new Map<number, [number, number]>();
-  for (const name of readdirSync('/proc')) {
-    if (!/^\d+$/.test(name)) continue;
-    try {
-      const stat = readFileSync(`/proc/${name}/stat`, 'latin1');
-      // Fields after the command name (which may hold spaces) start after the last ')'.
-      const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-      table.set(Number(name), [Number(fields[1]), Number(fields[21]) * PAGE_BYTES]);
-    } catch {
-      // the process ended between readdir and read
-    }
+/** Resident bytes of one process, or 0 when it has ended. */
+function rssOf(pid: number): number {
+  try {
+    const stat = readFileSync(`/proc/${pid}/stat`, 'latin1');
+    // Fields after the command name (which may hold spaces) start after the last ')'.
+    return Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[21]) * PAGE_BYTES;
+  } catch {
+    return 0; // the process ended between two reads
   }
-  return table;
 }
 
+/**
+ * Children of `pid` started by its main thread (proc(5), Linux 3.5+). Every command measured here
+ * (GNU time, bash, xargs, node) starts its children from the main thread; reading each thread's list
+ * instead costs ~1 ms more per sample for a node process with its dozen threads.
+ */
+function childrenOf(pid: number): number[] {
+  try {
+    return readFileSync(`/proc/${pid}/task/${pid}/children`, 'latin1').split(' ').filter(Boolean).map(Number);
+  } catch {
+    return []; // the process ended
+  }
+}
+
+/**
+ * Summed RSS of `rootPid` and its descendants. Walks down from the root (a few small reads) instead of
+ * reading every process on the machine: at one sample every 50 ms, reading all of /proc took ~4.6 ms of
+ * CPU each time (measured here), about 5% of a 2-core machine taken from the command being measured.
+ */
 export function treeRss(rootPid: number): number {
-  const table = processTable();
-  const children = new Map<number, number[]>();
-  for (const [pid, [ppid]] of table) children.set(ppid, [...(children.get(ppid) ?? []), pid]);
   let sum = 0;
   const stack = [rootPid];
   while (stack.length) {
     const pid = stack.pop()!;
-    sum += table.get(pid)?.[1] ?? 0;
-    stack.push(...(children.get(pid) ?? []));
+    sum += rssOf(pid);
+    stack.push(...childrenOf(pid));
   }
   return sum;
 }
