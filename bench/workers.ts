@@ -72,7 +72,9 @@ export function workersBench(root: string, work: string, bossSchema = BOSS_SCHEM
       });
       const ws = await insertWorkspace(server.deps.db, { name: 'Bench workspace', slug: `bench-${randomBytes(4).toString('hex')}` });
       workspaceId = ws.id;
-      worker = spawn(process.execPath, ['--import', 'tsx', 'jobs/worker-main.ts'], {
+      // BENCH_WORKER_NODE_ARGS: extra node options for the worker (say --cpu-prof), to see where its time goes.
+      const nodeArgs = (process.env.BENCH_WORKER_NODE_ARGS ?? '').split(' ').filter(Boolean);
+      worker = spawn(process.execPath, [...nodeArgs, '--import', 'tsx', 'jobs/worker-main.ts'], {
         cwd: root,
         env: {
           ...process.env,
