@@ -20,7 +20,7 @@ export type CardInfo = {
   /** Colour used for a solid fill and for flattening transparency. */
   fillColor: string;
   sourceKind: 'trim' | 'bleed';
-  /** sha256 of the decoded, oriented pixels (finds the same art saved twice). */
+  /** sha256 of the decoded, oriented pixels, RGB (RGBA for art with transparency): finds the same art saved twice. */
   sha256: string;
   findings: Finding[];
 };
@@ -84,6 +84,23 @@ export function solidRingColor(img: Raw, tolerance: number = PREFLIGHT_CONFIG.so
   return [0, 1, 2].map((c) => Math.round(sum[c]! / n)) as [number, number, number];
 }
 
+/** True when every alpha byte of RGBA `data` is 255. */
+function opaque(data: Buffer): boolean {
+  for (let i = 3; i < data.length; i += 4) if (data[i]! < 255) return false;
+  return true;
+}
+
+/** RGB bytes of RGBA `data`. */
+function dropAlpha(data: Buffer): Buffer {
+  const rgb = Buffer.allocUnsafe((data.length / 4) * 3);
+  for (let i = 0, o = 0; i < data.length; i += 4, o += 3) {
+    rgb[o] = data[i]!;
+    rgb[o + 1] = data[i + 1]!;
+    rgb[o + 2] = data[i + 2]!;
+  }
+  return rgb;
+}
+
 function hexToRgb(hex: string): [number, number, number] {
   return [1, 3, 5].map((i) => parseInt(hex.slice(i, i + 2), 16)) as [number, number, number];
 }
@@ -139,29 +156,24 @@ export async function conformCard(opts: {
   if (meta.depth && meta.depth !== 'uchar' && meta.depth !== 'char') convertedFrom.push('16-bit');
   if (meta.space === 'b-w' || meta.space === 'grey16' || meta.channels === 1 || meta.channels === 2) convertedFrom.push('grayscale');
 
-  // Decode the first frame only, oriented by EXIF, as 8-bit sRGB with alpha. failOn 'error' also
-  // fails on truncated data, so a cut-short file becomes a finding instead of a half-grey card.
+  // Decode the first frame only, oriented by EXIF, as 8-bit sRGB: RGB when the file has no alpha channel
+  // (most art: a quarter fewer bytes to decode into, hash and turn), else RGBA. failOn 'error' also fails
+  // on truncated data, so a cut-short file becomes a finding instead of a half-grey card.
   let decoded: Raw;
   try {
-    const { data, info } = await sharp(input, { limitInputPixels: PREFLIGHT_CONFIG.maxInputPixels, failOn: 'error', pages: 1 })
-      .rotate()
-      .toColourspace('srgb')
-      .ensureAlpha()
-      .raw({ depth: 'uchar' })
-      .toBuffer({ resolveWithObject: true });
+    const decoder = sharp(input, { limitInputPixels: PREFLIGHT_CONFIG.maxInputPixels, failOn: 'error', pages: 1 }).rotate().toColourspace('srgb');
+    if (meta.hasAlpha === false) decoder.removeAlpha();
+    else decoder.ensureAlpha();
+    const { data, info } = await decoder.raw({ depth: 'uchar' }).toBuffer({ resolveWithObject: true });
     decoded = { data, w: info.width, h: info.height, channels: info.channels };
   } catch (err) {
     return reject([decodeFailure(err)], sourcePx, format);
   }
-  const sha256 = createHash('sha256').update(`${decoded.w}x${decoded.h}:`).update(decoded.data).digest('hex');
-  // Art without an alpha channel (most of it) is opaque by definition: no need to look at every pixel.
-  let hadAlpha = false;
-  for (let i = 3; meta.hasAlpha !== false && i < decoded.data.length; i += 4) {
-    if (decoded.data[i]! < 255) {
-      hadAlpha = true;
-      break;
-    }
-  }
+  // An alpha channel that is opaque everywhere is dropped: the card is the same as art saved without one.
+  const hadAlpha = decoded.channels === 4 && !opaque(decoded.data);
+  if (decoded.channels === 4 && !hadAlpha) decoded = { ...decoded, data: dropAlpha(decoded.data), channels: 3 };
+  // The same pixels give the same hash whatever file they came from (RGB; RGBA only for art with transparency).
+  const sha256 = createHash('sha256').update(`${decoded.w}x${decoded.h}:${hadAlpha ? 'rgba:' : ''}`).update(decoded.data).digest('hex');
 
   // Turn: art whose orientation differs from the card's (landscape art on a portrait card).
   const cardLandscape = geo.trimPx.w > geo.trimPx.h;
@@ -186,7 +198,7 @@ export async function conformCard(opts: {
     fitted = decoded;
   } else {
     const fitKind = recipe.fit === 'cover' ? 'cover' : recipe.fit === 'contain' ? 'inside' : 'fill';
-    const fittedOut = await sharp(decoded.data, { raw: { width: decoded.w, height: decoded.h, channels: 4 }, limitInputPixels: false })
+    const fittedOut = await sharp(decoded.data, { raw: { width: decoded.w, height: decoded.h, channels: decoded.channels as 3 | 4 }, limitInputPixels: false })
       .flatten({ background: flattenColor })
       .rotate(angle)
       .resize(target.w, target.h, { fit: fitKind, position: 'centre', kernel: 'lanczos3' })

@@ -58,9 +58,9 @@ export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: R
   return images.map((source) => ({ source, role: backs.has(source) ? ('back' as const) : ('front' as const), title: titles.get(source) ?? null }));
 }
 
-// Bump when conform makes different pixels or findings for the same input and recipe, so renders
-// cached by an older engine are not reused.
-const RENDER_VERSION = 3;
+// Bump when conform makes different pixels, findings or info for the same input and recipe, so renders
+// cached by an older engine are not reused (4: the pixel hash is over RGB, not RGBA, for opaque art).
+const RENDER_VERSION = 4;
 
 /** Names the engine that makes a render (render version and libvips version): cache entries of another engine are not reused. */
 export const ENGINE_TAG = createHash('sha256').update(JSON.stringify({ v: RENDER_VERSION, vips: sharp.versions.vips })).digest('hex').slice(0, 12);

@@ -218,6 +218,22 @@ describe('preflight numbers', () => {
     expect(cards[1]!.findings.find((f) => f.code === 'DUPLICATE_PIXELS')!.message).toBe('Same pixels as "a.png".');
   });
 
+  it('gives art saved with an opaque alpha channel the hash and pixels of the same art without one; real transparency differs', async () => {
+    const art = await sharp(await busyArt(75, 105)).removeAlpha().png().toBuffer();
+    const withAlpha = await sharp(art).ensureAlpha(1).png().toBuffer();
+    const seeThrough = await sharp(art).ensureAlpha(0.5).png().toBuffer();
+    expect((await sharp(art).metadata()).hasAlpha).toBe(false);
+    expect((await sharp(withAlpha).metadata()).hasAlpha).toBe(true);
+    const [plain, opaqueAlpha, transparent] = await Promise.all(
+      [art, withAlpha, seeThrough].map(async (input, i) => ok(await conformCard({ input, sourceName: `${i}.png`, recipe: recipe() }))),
+    );
+    expect(opaqueAlpha.info.sha256).toBe(plain.info.sha256);
+    expect(opaqueAlpha.png.equals(plain.png)).toBe(true);
+    expect(opaqueAlpha.info.findings.map((f) => f.code)).toEqual(plain.info.findings.map((f) => f.code));
+    expect(transparent.info.sha256).not.toBe(plain.info.sha256);
+    expect(transparent.info.findings.map((f) => f.code)).toContain('TRANSPARENCY_FLATTENED');
+  });
+
   it('turns unreadable files into error findings, never a crash', async () => {
     const good = await busyArt(75, 105);
     const cases: Array<[Buffer, string, string]> = [
