@@ -6,6 +6,9 @@ import { PdfStreamWriter, pdfNum, pdfTextString } from './pdf-writer.ts';
 
 export type PdfPage = { kind: 'card'; pngPath: string } | { kind: 'blank' };
 
+// Card images read ahead of the writes (each holds one card PNG, ~1 MB, in memory).
+const IMAGES_IN_FLIGHT = 3;
+
 /**
  * Writes the combined print PDF: one card per page, in the order given.
  *
@@ -14,8 +17,9 @@ export type PdfPage = { kind: 'card'; pngPath: string } | { kind: 'blank' };
  * bleed, as the conform step writes it) fills the page. Its IDAT data is copied into the PDF unchanged
  * as a FlateDecode image with PNG predictors, so pixels are lossless and nothing is re-encoded.
  *
- * Memory stays bounded: objects stream to `outPath + '.tmp'` as they are made (one card image in
- * memory at a time, read into a buffer reused for every card), and the file is renamed into place at the end. An image used on several pages
+ * Memory stays bounded: objects stream to `outPath + '.tmp'` as they are made (IMAGES_IN_FLIGHT card
+ * images in memory at a time, each read into a buffer reused for the cards after it), and the file is
+ * renamed into place at the end. An image used on several pages
  * (copies, a repeated back) is stored once. Output bytes depend only on the inputs (no dates, the file
  * ID is a hash of the content), so a retry writes the same file.
  */
@@ -46,6 +50,11 @@ export async function writeCombinedPdf(opts: {
 
   const tmpPath = `${outPath}.tmp`;
   const writer = new PdfStreamWriter(tmpPath, opts.mirror ?? null);
+  // A few card images in flight: the next one is read and checked while the last ones are still being
+  // written (to the PDF, its bundle tee and the bundle's singles). Each reader's one buffer serves every
+  // image it reads (see ReusedReader): no fresh memory per page. Offsets are fixed as writes are started,
+  // so the file's bytes are the same as with one image at a time.
+  const readers = Array.from({ length: IMAGES_IN_FLIGHT }, () => ({ reader: new ReusedReader(), busy: Promise.resolve() as Promise<unknown> }));
   try {
     await writer.start();
     const catalogNum = writer.allocate();
@@ -62,8 +71,7 @@ export async function writeCombinedPdf(opts: {
     // Only object numbers are kept per distinct image; the image bytes are released once written.
     const imageNums = new Map<string, number>();
     const pageNums: number[] = [];
-    // One buffer serves every card image in turn (see ReusedReader): no fresh memory per page.
-    const reader = new ReusedReader();
+    let next = 0;
 
     for (const page of pages) {
       const pageNum = writer.allocate();
@@ -79,7 +87,9 @@ export async function writeCombinedPdf(opts: {
       } else {
         let imageNum = imageNums.get(page.pngPath);
         if (imageNum === undefined) {
-          const png = await readPngForPdf(page.pngPath, reader);
+          const slot = readers[next++ % readers.length]!;
+          await slot.busy; // its buffer is free once the image read into it last is written
+          const png = await readPngForPdf(page.pngPath, slot.reader);
           imageNum = writer.allocate();
           const placing = opts.onPngFile?.(page.pngPath, png.file);
           const writing = writer.writeStream(
@@ -90,7 +100,8 @@ export async function writeCombinedPdf(opts: {
             png.idat,
             `png ${png.width}x${png.height} ${png.idatBytes} ${png.idatCrcs.join(',')}`,
           );
-          await Promise.all([writing, placing]);
+          slot.busy = Promise.all([writing, placing]);
+          slot.busy.catch(() => undefined); // awaited below; a failure must not go unhandled meanwhile
           imageNums.set(page.pngPath, imageNum);
         }
         if (!cardContentNum) {
@@ -108,6 +119,7 @@ export async function writeCombinedPdf(opts: {
       }
       pageNums.push(pageNum);
     }
+    await Promise.all(readers.map((r) => r.busy));
 
     await writer.writeObject(
       pagesNum,
@@ -117,6 +129,7 @@ export async function writeCombinedPdf(opts: {
     await writer.writeObject(infoNum, `<< /Title ${pdfTextString(title)} /Producer (Bleedwright) >>`);
     await writer.finish(catalogNum, infoNum);
   } catch (err) {
+    await Promise.allSettled(readers.map((r) => r.busy));
     await writer.abort();
     await rm(tmpPath, { force: true });
     throw err;
