@@ -232,4 +232,20 @@ describe('writeCombinedPdf', () => {
     await expect(stat(outPath)).rejects.toThrow();
     await expect(stat(`${outPath}.tmp`)).rejects.toThrow();
   });
+
+  it('stops at a damaged card among others still being written, and leaves no file behind', async () => {
+    const cards = await Promise.all(Array.from({ length: 8 }, (_, i) => makePng(`good-${i}.png`, 40, 56, 20 + i)));
+    const good = await readFile(cards[5]!);
+    // One byte of image data flipped: the IDAT chunk's CRC (PNG spec 5.3) no longer matches.
+    const damaged = Buffer.from(good);
+    const idat = damaged.indexOf('IDAT', 0, 'latin1');
+    damaged[idat + 10] = damaged[idat + 10]! ^ 0xff;
+    await writeFile(cards[5]!, damaged);
+    const outPath = path.join(dir, 'damaged.pdf');
+    await expect(
+      writeCombinedPdf({ pages: cards.map((pngPath) => ({ kind: 'card' as const, pngPath })), pagePt, bleedPt, title: 'Damaged', outPath }),
+    ).rejects.toMatchObject({ code: 'PDF_IMAGE_CORRUPT' });
+    await expect(stat(outPath)).rejects.toThrow();
+    await expect(stat(`${outPath}.tmp`)).rejects.toThrow();
+  });
 });
