@@ -10,7 +10,7 @@
 // Code splitting keeps the sheets and proof writers in chunks of their own: they alone load pdf-lib
 // (~0.35 s of CPU), and only when a recipe asks for them.
 import { existsSync, mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
-import { basename, join, relative } from 'node:path';
+import { basename, dirname, join, relative } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 
 const root = fileURLToPath(new URL('..', import.meta.url));
@@ -59,6 +59,18 @@ function writeAtomically(file, contents) {
   }
 }
 
+// zod's `z` namespace re-exports every message locale (~290 KB of the bundle's ~1 MB, compiled at every
+// start); the CLI's messages are English, so its locale index is cut down to English alone.
+const zodEnglishOnly = {
+  name: 'zod-english-only',
+  setup(b) {
+    b.onResolve({ filter: /^\.\.\/locales\/index\.js$/ }, (args) =>
+      /[\\/]node_modules[\\/]zod[\\/]/.test(args.importer) ? { path: join(dirname(args.importer), '..', 'locales', 'english-only.js'), namespace: 'zod-locales' } : undefined,
+    );
+    b.onLoad({ filter: /.*/, namespace: 'zod-locales' }, (args) => ({ contents: "export { default as en } from './en.js';", resolveDir: dirname(args.path), loader: 'js' }));
+  },
+};
+
 /** Builds the bundle and returns its entry module's path. Several builds at once are safe. */
 export async function buildCli() {
   const { build } = await import('esbuild');
@@ -80,6 +92,7 @@ export async function buildCli() {
     // cost ~0.15 s per start). sharp's native addon is still required from node_modules at run time
     // (its path is computed, so it stays a require); unzipper's optional S3 client is left out.
     external: ['@aws-sdk/*'],
+    plugins: [zodEnglishOnly],
     // Bundled CommonJS packages call require() for Node's own modules.
     banner: { js: "import { createRequire as __bwCreateRequire } from 'node:module'; const require = __bwCreateRequire(import.meta.url);" },
     splitting: true,
@@ -104,7 +117,9 @@ export async function buildCli() {
   // A bundled package is checked by its package.json (npm writes a package's folder whole), not by
   // each of its hundreds of files.
   const packageOf = (file) => file.match(/^(.*node_modules\/(?:@[^/]+\/)?[^/]+)\//)?.[1];
-  const inputs = [...new Set(Object.keys(result.metafile.inputs).map((f) => (packageOf(f) ? `${packageOf(f)}/package.json` : f))), ...SETTINGS.filter((f) => existsSync(join(root, f)))];
+  // Inputs of a plugin's own namespace ("zod-locales:...") are not files; the plugin is in SETTINGS.
+  const files = Object.keys(result.metafile.inputs).filter((f) => !/^[a-z-]+:/.test(f));
+  const inputs = [...new Set(files.map((f) => (packageOf(f) ? `${packageOf(f)}/package.json` : f))), ...SETTINGS.filter((f) => existsSync(join(root, f)))];
 
   const previous = readManifest();
   writeAtomically(manifestFile, `${JSON.stringify({ entry, builtAt, inputs, outputs }, null, 2)}\n`);
