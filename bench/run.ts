@@ -181,7 +181,8 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
   log(`\n${n} cards`);
   log('  A  bleedwright run (CLI) ...');
   settleDisk();
-  const a = await measure('node', ['bin/bleedwright.js', 'run', zip, '--recipe', recipePath, '--out', out('a'), '--timings'], { cwd: ROOT, env });
+  // The script itself, as `npx bleedwright` runs it: its shebang sets the malloc settings (scripts/malloc-env.mjs).
+  const a = await measure('bin/bleedwright.js', ['run', zip, '--recipe', recipePath, '--out', out('a'), '--timings'], { cwd: ROOT, env });
   mustSucceed(a, 'A (bleedwright run)');
   const aSingles = await filesBytes(path.join(out('a'), 'cards'));
   const report = JSON.parse(await readFile(path.join(out('a'), 'report.json'), 'utf8'));
@@ -228,7 +229,7 @@ async function runSize(all: readonly string[], n: number, recipePath: string, do
     log(`  A  rerun with ${RERUN_CHANGED} of ${n} cards changed ...`);
     const rendersBefore = await countRenders(cacheDir);
     settleDisk();
-    const r = await measure('node', ['bin/bleedwright.js', 'run', fixedZip, '--recipe', recipePath, '--out', out('a'), '--timings'], { cwd: ROOT, env });
+    const r = await measure('bin/bleedwright.js', ['run', fixedZip, '--recipe', recipePath, '--out', out('a'), '--timings'], { cwd: ROOT, env });
     mustSucceed(r, 'A rerun');
     // The rerun must have rendered exactly the changed cards (each new render adds one file to the cache).
     const rendered = (await countRenders(cacheDir)) - rendersBefore;
@@ -385,7 +386,7 @@ async function main(): Promise<void> {
   if (!args.workers) workers = 'not measured: --no-workers';
   else if (!landed) workers = 'not measured: the runs backend (jobs/runs/) has not landed on main yet';
   else {
-    log('Starting the bench database and a worker for A-workers ...');
+    log('Starting the bench database for A-workers (each run starts its own worker) ...');
     bench = workersBench(ROOT, path.join(WORK, 'workers'));
     await bench.start();
   }

@@ -7,6 +7,7 @@ import { randomBytes } from 'node:crypto';
 import { link, mkdir, rm } from 'node:fs/promises';
 import path from 'node:path';
 import { ensureDatabase } from '../scripts/db.mjs';
+import { MALLOC_ENV } from '../scripts/malloc-env.mjs';
 import { findRunView } from '../server/db/runs.ts';
 import { insertWorkspace } from '../server/db/workspaces.ts';
 import { createLogger } from '../server/logger.ts';
@@ -58,6 +59,8 @@ export function workersBench(root: string, work: string, bossSchema = BOSS_SCHEM
       cwd: root,
       env: {
         ...process.env,
+        // As `npm run worker` starts it (package.json).
+        ...MALLOC_ENV,
         DATABASE_URL: databaseUrl,
         BLEEDWRIGHT_STORAGE: storageRoot,
         BLEEDWRIGHT_BOSS_SCHEMA: bossSchema,

@@ -1,6 +1,7 @@
-#!/usr/bin/env node
+#!/usr/bin/env -S MALLOC_MMAP_THRESHOLD_=67108864 MALLOC_TRIM_THRESHOLD_=1073741824 node
 // Entry point of the `bleedwright` CLI: runs the prebuilt bundle (scripts/build-cli.mjs), rebuilt when
-// a source is newer; loads the TypeScript sources through tsx when it cannot be built.
+// a source is newer; loads the TypeScript sources through tsx when it cannot be built. The shebang sets
+// glibc's malloc to reuse card-sized blocks (scripts/malloc-env.mjs says why).
 import { availableParallelism } from 'node:os';
 import { pathToFileURL } from 'node:url';
 

@@ -256,3 +256,24 @@ describe('the prebuilt CLI bundle (scripts/build-cli.mjs)', () => {
     expect(r.stderr).toMatch(/^bleedwright: CLI bundle not built, using tsx: /);
   });
 });
+
+describe('malloc settings (scripts/malloc-env.mjs)', () => {
+  it('the shebang, package.json start and worker scripts all set them; the shebang hands them to node', async () => {
+    const { MALLOC_ENV, mallocAssignments } = await import('../../scripts/malloc-env.mjs');
+    const shebang = (await readFile(bin, 'utf8')).split('\n')[0]!;
+    expect(shebang).toBe(`#!/usr/bin/env -S ${mallocAssignments()} node`);
+    const scripts = JSON.parse(await readFile(path.join(root, 'package.json'), 'utf8')).scripts as Record<string, string>;
+    expect(scripts.start!.startsWith(`${mallocAssignments()} `)).toBe(true);
+    expect(scripts.worker!.startsWith(`${mallocAssignments()} `)).toBe(true);
+    // The same first line on a script that prints what the process got (env -S splits it, as the kernel does not).
+    const probe = path.join(dir, 'probe.mjs');
+    await writeFile(probe, `${shebang}\nconsole.log(JSON.stringify(Object.fromEntries(Object.keys(${JSON.stringify(MALLOC_ENV)}).map((k) => [k, process.env[k]]))));\n`, { mode: 0o755 });
+    const r = run(probe, [], { cwd: root });
+    expect(r.status).toBe(0);
+    expect(JSON.parse(r.stdout)).toEqual(MALLOC_ENV);
+    // And the CLI itself runs that way, as `npx bleedwright` starts it.
+    const direct = run(bin, ['recipe', '--example'], { cwd: root });
+    expect(direct.status).toBe(0);
+    expect(() => parseRecipe(JSON.parse(direct.stdout))).not.toThrow();
+  });
+});
