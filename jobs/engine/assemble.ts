@@ -1,6 +1,6 @@
 // Assembly: from rendered cards to the deck's outputs (singles, combined PDF, sheets, proof, report,
 // bundle). The pg-boss assemble job and the CLI's runEngine both call assembleOutputs.
-import { chmod, lstat, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { lstat, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
@@ -88,11 +88,6 @@ export async function assembleOutputs(opts: {
   manifest: readonly ManifestRow[] | null;
   skippedFiles: readonly SkippedEntry[];
   onProgress?: (p: Progress) => void;
-  /**
-   * The card PNGs are files of a render cache that outlives this run. PNG singles are hard links to
-   * them, so those singles are made read-only: an edit saved in place would otherwise change the cache.
-   */
-  rendersShared?: boolean;
 }): Promise<RunReport> {
   const { recipe, outDir, cards, onProgress } = opts;
   const geo = recipeGeometry(recipe);
@@ -146,8 +141,8 @@ export async function assembleOutputs(opts: {
       const target = inside(cardsDir, names[i]!);
       if (singlesFormat === 'png') {
         // A PNG single is the rendered PNG byte for byte: link it instead of copying ~1 MB per card.
-        const how = await linkOrCopy(src.pngPath!, target);
-        if (how === 'link' && opts.rendersShared) await chmod(target, 0o444);
+        // (Renders of the CLI's cache are read-only files, so their linked singles are too: see keepRender.)
+        await linkOrCopy(src.pngPath!, target);
       } else {
         await writeAtomic(target, await encodeSingle(await readFile(src.pngPath!), singlesFormat, recipe.dpi));
       }

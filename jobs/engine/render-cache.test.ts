@@ -82,8 +82,8 @@ describe('render cache', () => {
     const first = await renders(cacheDir);
     expect(first).toHaveLength(2);
 
-    // Each PNG single is the cached render itself (same inode), made read-only so an edit in place
-    // cannot change the cache behind the next run.
+    // Each PNG single is the cached render itself (same inode), a read-only file so an edit in place
+    // cannot change the cache behind the next run; the rerun's singles too.
     const single = await stat(path.join(base, 'one', 'cards', 'a.png'));
     const inodes = await Promise.all(first.map(async (f) => (await stat(path.join(cacheDir, f))).ino));
     expect(inodes).toContain(single.ino);
@@ -94,6 +94,7 @@ describe('render cache', () => {
     const fixed = await zipOf({ 'a.png': a, 'b.png': await art('#22aa33') });
     const rerun = await runEngine({ source: fixed, recipe, outDir: path.join(base, 'two'), cacheDir });
     expect(await renders(cacheDir)).toHaveLength(3);
+    for (const name of ['a.png', 'b.png']) expect((await stat(path.join(base, 'two', 'cards', name))).mode & 0o222, name).toBe(0);
     const plain = await runEngine({ source: fixed, recipe, outDir: path.join(base, 'plain'), cacheDir: null });
     expect(await cards(path.join(base, 'two'))).toEqual(await cards(path.join(base, 'plain')));
     expect(rerun.report.cards).toEqual(plain.report.cards);

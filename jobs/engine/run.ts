@@ -59,8 +59,9 @@ export function cardSources(set: Pick<ArtSet, 'entries' | 'manifest'>, recipe: R
 }
 
 // Bump when conform makes different pixels, findings or info for the same input and recipe, so renders
-// cached by an older engine are not reused (4: the pixel hash is over RGB, not RGBA, for opaque art).
-const RENDER_VERSION = 4;
+// cached by an older engine are not reused (4: the pixel hash is over RGB, not RGBA, for opaque art;
+// 5: cached PNGs are read-only files, see keepRender).
+const RENDER_VERSION = 5;
 
 /** Names the engine that makes a render (render version and libvips version): cache entries of another engine are not reused. */
 export const ENGINE_TAG = createHash('sha256').update(JSON.stringify({ v: RENDER_VERSION, vips: sharp.versions.vips })).digest('hex').slice(0, 12);
@@ -93,10 +94,19 @@ async function readCached(cacheDir: string, key: string): Promise<CachedRender |
 }
 
 /** Writes under a name no other writer uses, then renames: concurrent runs sharing a cache never see half a file. */
-async function writeShared(target: string, data: Buffer | string): Promise<void> {
+async function writeShared(target: string, data: Buffer | string, mode = 0o644): Promise<void> {
   const tmp = `${target}.${process.pid}-${randomBytes(4).toString('hex')}.tmp`;
-  await writeFile(tmp, data);
+  await writeFile(tmp, data, { mode });
   await rename(tmp, target);
+}
+
+/**
+ * Keeps a render in the cache. The PNG is a read-only file: a run's PNG singles are hard links to it
+ * (assembleOutputs), and an edit saved in place over a single would otherwise change the cache. Made
+ * read-only once here, not at every link (a rerun's 200 chmod calls).
+ */
+async function keepRender(cacheDir: string, key: string, png: Buffer): Promise<void> {
+  await writeShared(path.join(cacheDir, `${key}.png`), png, 0o444);
 }
 
 /** One card of an art set to render: where its PNG goes, and the render cache to use, if any. */
@@ -145,7 +155,7 @@ async function conformAndKeep(opts: CardToRender, key: string | null): Promise<R
   const result = await conformCard({ input: await readEntry(set, source), sourceName: source, recipe });
   const pngCrc32 = result.png ? crc32(result.png) : null;
   if (cacheDir && key) {
-    if (result.png) await writeShared(path.join(cacheDir, `${key}.png`), result.png);
+    if (result.png) await keepRender(cacheDir, key, result.png);
     const entry: CachedRender = { png: result.png !== null, info: result.info, ...(pngCrc32 !== null ? { pngCrc32 } : {}) };
     await writeShared(path.join(cacheDir, `${key}.json`), JSON.stringify(entry));
   }
@@ -210,7 +220,6 @@ export async function runEngine(opts: {
       manifest: set.manifest,
       skippedFiles: set.skipped,
       onProgress,
-      rendersShared: cacheDir !== null,
     });
     const ms = (from: number, to: number) => Math.round(to - from);
     const timings = { openMs: ms(started, opened), cardsMs: ms(opened, rendered), assemblyMs: ms(rendered, performance.now()) };
