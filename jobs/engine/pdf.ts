@@ -19,9 +19,9 @@ const IMAGES_IN_FLIGHT = 3;
  *
  * Memory stays bounded: objects stream to `outPath + '.tmp'` as they are made (IMAGES_IN_FLIGHT card
  * images in memory at a time, each read into a buffer reused for the cards after it), and the file is
- * renamed into place at the end. An image used on several pages
- * (copies, a repeated back) is stored once. Output bytes depend only on the inputs (no dates, the file
- * ID is a hash of the content), so a retry writes the same file.
+ * renamed into place at the end. An image used on several pages (copies, a repeated back) is stored
+ * once. Output bytes depend only on the inputs (no dates, the file ID is a hash of the content), so a
+ * retry writes the same file.
  */
 export async function writeCombinedPdf(opts: {
   pages: PdfPage[];
