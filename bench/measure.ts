@@ -24,12 +24,17 @@ export type Measured = {
   stderr: string;
 };
 
+/** The fields of /proc/<pid>/stat after the command name (proc(5)): [0] is the state, field 3. */
+function statFields(pid: number): string[] {
+  const stat = readFileSync(`/proc/${pid}/stat`, 'latin1');
+  // The command name may hold spaces and parentheses: the fields start after the last ')'.
+  return stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+}
+
 /** Resident bytes of one process, or 0 when it has ended. */
 function rssOf(pid: number): number {
   try {
-    const stat = readFileSync(`/proc/${pid}/stat`, 'latin1');
-    // Fields after the command name (which may hold spaces) start after the last ')'.
-    return Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[21]) * PAGE_BYTES;
+    return Number(statFields(pid)[21]) * PAGE_BYTES;
   } catch {
     return 0; // the process ended between two reads
   }
@@ -115,7 +120,6 @@ export function sampleTreeRss(pid: number): { stop: () => number } {
 
 /** User + system CPU time a running process has used so far (clock ticks of 1/100 s on Linux). */
 export function processCpuMs(pid: number): number {
-  const stat = readFileSync(`/proc/${pid}/stat`, 'latin1');
-  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  const fields = statFields(pid);
   return (Number(fields[11]) + Number(fields[12])) * 10;
 }
