@@ -13,6 +13,7 @@ import { createLogger } from '../../server/logger.ts';
 import { startServer } from '../../server/server.ts';
 import { createWorkspaceFixture } from './fixtures.ts';
 import { cardPng, upload, waitForRun, zipOf } from './runs-fixtures.ts';
+import { MALLOC_ENV } from '../../scripts/malloc-env.mjs';
 
 const arg = (name: string, fallback: string) => {
   const i = process.argv.indexOf(`--${name}`);
@@ -46,7 +47,8 @@ for (let i = 1; i <= CARDS; i++) files[`card-${String(i).padStart(3, '0')}.png`]
 
 function startWorker(): Promise<ChildProcess> {
   const child = spawn(process.execPath, ['--import', 'tsx', 'jobs/worker-main.ts'], {
-    env: { ...process.env, BLEEDWRIGHT_STORAGE: storageRoot, BLEEDWRIGHT_WORK_DIR: path.join(base, `work-${randomBytes(3).toString('hex')}`), BLEEDWRIGHT_BOSS_SCHEMA: bossSchema, BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher!.port), BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5', LOG_LEVEL: 'warn' },
+    // MALLOC_ENV: as `npm run worker` starts it (package.json).
+    env: { ...process.env, ...MALLOC_ENV, BLEEDWRIGHT_STORAGE: storageRoot, BLEEDWRIGHT_WORK_DIR: path.join(base, `work-${randomBytes(3).toString('hex')}`), BLEEDWRIGHT_BOSS_SCHEMA: bossSchema, BLEEDWRIGHT_SMTP_PORT: String(server.mailCatcher!.port), BLEEDWRIGHT_JOB_POLL_SECONDS: '0.5', LOG_LEVEL: 'warn' },
     stdio: ['ignore', 'pipe', 'inherit'],
   });
   return new Promise((resolve, reject) => {
