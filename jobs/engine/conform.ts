@@ -223,8 +223,9 @@ export async function conformCard(opts: {
   const padH = geo.pagePx.h - fittedPx.h;
   const left = Math.floor(padW / 2);
   const top = Math.floor(padH / 2);
-  const pipeline = sharp(fitted.data, { raw: { width: fitted.w, height: fitted.h, channels: fitted.channels as 3 | 4 }, limitInputPixels: false });
-  if (direct) pipeline.rotate(angle).removeAlpha();
+  // Both paths hand over RGB: direct art has no alpha left after decoding, the other path removed it.
+  const pipeline = sharp(fitted.data, { raw: { width: fitted.w, height: fitted.h, channels: 3 }, limitInputPixels: false });
+  if (direct) pipeline.rotate(angle);
   if (padW > 0 || padH > 0) {
     pipeline.extend({
       left,
