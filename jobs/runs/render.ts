@@ -82,7 +82,8 @@ export async function renderRunCard(rt: RunsRuntime, cardId: string, finalAttemp
       rendered = { pngPath: null, info: { sourcePx: null, format: null, findings: [makeFinding('UNREADABLE', {}, { reason: err.message })] } };
     }
     if (rendered.pngPath) await rt.storage.putFile(key, tmp);
-    const info = { ...rendered.info, renderKey: rendered.pngPath ? key : null };
+    // The render's CRC-32 goes with its key: assembly then writes its bundle entry without hashing it again.
+    const info = { ...rendered.info, renderKey: rendered.pngPath ? key : null, renderCrc32: rendered.pngPath ? (rendered.pngCrc32 ?? null) : null };
     // Logged, cached and settled in one statement (a stale attempt logs its render but settles nothing).
     await settleRender(
       rt.db,
