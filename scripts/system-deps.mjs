@@ -3,7 +3,7 @@
 import { execFileSync, spawnSync } from 'node:child_process';
 
 export const START_PACKAGES = ['postgresql'];
-export const TEST_PACKAGES = ['postgresql', 'chromium', 'poppler-utils', 'qpdf', 'imagemagick', 'libimage-exiftool-perl', 'img2pdf'];
+export const TEST_PACKAGES = ['postgresql', 'chromium', 'poppler-utils', 'qpdf', 'imagemagick', 'libimage-exiftool-perl', 'img2pdf', 'unzip'];
 
 function installed(pkg) {
   const r = spawnSync('dpkg-query', ['-W', '-f=${Status}', pkg], { encoding: 'utf8' });

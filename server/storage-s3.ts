@@ -72,9 +72,9 @@ export function s3Storage(opts: S3StorageOptions): Storage & { client: S3Client 
     }
   }
 
-  async function get(key: string): Promise<Readable> {
+  async function get(key: string, range?: { start: number; end: number }): Promise<Readable> {
     try {
-      const out = await client.send(new GetObjectCommand({ Bucket, Key: checkKey(key) }));
+      const out = await client.send(new GetObjectCommand({ Bucket, Key: checkKey(key), Range: range ? `bytes=${range.start}-${range.end}` : undefined }));
       return out.Body as Readable;
     } catch (err) {
       if (isNotFound(err)) throw missing(key);

@@ -24,7 +24,8 @@ export interface Storage {
   put(key: string, data: Buffer | Readable): Promise<void>;
   /** Moves a local file into `key`; the local file is gone afterwards. */
   putFile(key: string, file: string): Promise<void>;
-  get(key: string): Promise<Readable>;
+  /** The bytes of `key`, or with `range` only bytes start..end (both included). */
+  get(key: string, range?: { start: number; end: number }): Promise<Readable>;
   /**
    * A local file holding `key`'s bytes, for sharp and the PDF writer, which read paths. Local disk gives
    * the stored file itself; S3 downloads it once into `<workDir>/cache/` (keys hold content hashes or are
@@ -98,10 +99,10 @@ export function localStorage(root: string): Storage {
         await rm(file, { force: true });
       }
     },
-    async get(key) {
+    async get(key, range) {
       const file = full(key);
       await stat(file); // a missing key fails here (ENOENT), not later in the stream
-      return createReadStream(file);
+      return createReadStream(file, range);
     },
     async fetchFile(key) {
       const file = full(key);

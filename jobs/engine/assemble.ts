@@ -1,6 +1,6 @@
 // Assembly: from rendered cards to the deck's outputs (singles, combined PDF, sheets, proof, report,
 // bundle). The pg-boss assemble job and the CLI's runEngine both call assembleOutputs.
-import { lstat, mkdir, readFile, rename, rm, writeFile } from 'node:fs/promises';
+import { lstat, mkdir, open, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
@@ -14,7 +14,8 @@ import { linkOrCopy } from './file-io.ts';
 import { writeCombinedPdf, type PdfPage } from './pdf.ts';
 import { markDuplicates } from './preflight.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
-import { writeZip, ZipPlacer, ZipTee } from './zip-writer.ts';
+import { crc32 } from 'node:zlib';
+import { CrcMirror, writeZip, ZipPlacer, ZipTee, type ZipPart } from './zip-writer.ts';
 import { mapLimited } from '../../shared/map-limited.ts';
 
 export type Progress = { phase: 'cards' | 'pdf' | 'sheets' | 'proof' | 'report' | 'bundle'; done: number; total: number; current?: string };
@@ -79,6 +80,12 @@ const ENCODES_AT_ONCE = Math.min(4, availableParallelism());
 
 const RESERVED_PDF_NAMES = new Set(['proof', 'sheets-letter', 'sheets-a4', 'report', 'bundle']);
 
+/**
+ * A bundle entry kept as a file of its own (a render or an output of outDir), for composeZip: with
+ * `bundle: 'parts'` no bundle.zip is written, and a download streams these files as the zip.
+ */
+export type BundlePart = ZipPart<string>;
+
 /** Deck, singles, combined PDF, sheets, proof, report and bundle from rendered cards. */
 export async function assembleOutputs(opts: {
   recipe: Recipe;
@@ -88,7 +95,14 @@ export async function assembleOutputs(opts: {
   manifest: readonly ManifestRow[] | null;
   skippedFiles: readonly SkippedEntry[];
   onProgress?: (p: Progress) => void;
-}): Promise<RunReport> {
+  /**
+   * 'file' (default, the CLI): outDir/bundle.zip is written. 'parts' (runs on the server): the bundle's
+   * entries are returned instead (each single as the render it links to), so storage holds no second
+   * copy of every card and of the PDF; a download composes the zip (composeZip). Singles other than
+   * PNG are files of outDir alone, so with them the bundle is still written as a file.
+   */
+  bundle?: 'file' | 'parts';
+}): Promise<{ report: RunReport; bundleParts: BundlePart[] | null }> {
   const { recipe, outDir, cards, onProgress } = opts;
   const geo = recipeGeometry(recipe);
   const bySource = new Map(cards.map((c) => [c.source, c]));
@@ -163,7 +177,10 @@ export async function assembleOutputs(opts: {
   // bytes go into the bundle as they are written (a ZipTee), so the PDF is never read back.
   // The PDF writer reads every card PNG whole; a PNG single's bundle entry is written from that read
   // (a ZipPlacer) instead of reading the file again.
-  const tee = pdfName ? new ZipTee() : null;
+  const composing = opts.bundle === 'parts' && (!recipe.outputs.singles || recipe.outputs.singles === 'png');
+  const tee = pdfName && !composing ? new ZipTee() : null;
+  // A composed bundle needs the PDF's CRC-32: taken as it is written, so the PDF is not read back either.
+  const pdfCrc = pdfName && composing ? new CrcMirror() : null;
   let pdfTask: Promise<unknown> = Promise.resolve();
   let placer: ZipPlacer | null = null;
   if (pdfName) {
@@ -172,7 +189,7 @@ export async function assembleOutputs(opts: {
     // Singles are hard links or copies of the renders: the bundle's entry of a single is keyed by the render it came from.
     const singleOf = new Map<string, string[]>();
     const crcOf = new Map<string, number>();
-    if (recipe.outputs.singles === 'png') {
+    if (recipe.outputs.singles === 'png' && !composing) {
       for (const [source, outs] of outputsBySource) {
         const card = bySource.get(source)!;
         singleOf.set(card.pngPath!, outs.map((o) => inside(outDir, o)));
@@ -188,7 +205,7 @@ export async function assembleOutputs(opts: {
       bleedPt: geo.bleedPt,
       title,
       outPath: inside(outDir, pdfName),
-      mirror: tee,
+      mirror: tee ?? pdfCrc,
       renameAfter: clearing,
       onPngFile: p ? async (png, file) => void (await Promise.all((singleOf.get(png) ?? []).map((single) => p.put(single, file, crcOf.get(png))))) : null,
     }).then(() => onProgress?.({ phase: 'pdf', done: 1, total: 1 }));
@@ -279,6 +296,22 @@ export async function assembleOutputs(opts: {
 
   onProgress?.({ phase: 'bundle', done: 0, total: 1 });
   const later = [sheetsName, proofName, 'report.json', 'report.csv'].filter((n): n is string => n !== null);
+  if (composing) {
+    const [pdfDone, rest] = await Promise.allSettled([pdfTask, restTask]);
+    for (const r of [pdfDone, rest]) if (r.status === 'rejected') throw r.reason;
+    const sourceOf = new Map<string, RenderedCard>();
+    for (const [source, outs] of outputsBySource) for (const o of outs) sourceOf.set(o, bySource.get(source)!);
+    const bundleParts = await mapLimited([...singles, ...(pdfName ? [pdfName] : []), ...later], LINKS_AT_ONCE, async (name): Promise<BundlePart> => {
+      const card = sourceOf.get(name);
+      if (card) return { name, source: card.pngPath!, size: (await stat(card.pngPath!)).size, crc: card.pngCrc32 ?? (await fileCrc32(card.pngPath!)) };
+      const file = inside(outDir, name);
+      const size = (await stat(file)).size;
+      if (name === pdfName && pdfCrc!.size === size) return { name, source: file, size, crc: pdfCrc!.crc };
+      return { name, source: file, size, crc: await fileCrc32(file) };
+    });
+    onProgress?.({ phase: 'bundle', done: 1, total: 1 });
+    return { report: (rest as PromiseFulfilledResult<RunReport>).value, bundleParts };
+  }
   const bundleTask = writeBundle(
     outDir,
     [...singles, ...(pdfName ? [pdfName] : []), ...later],
@@ -292,7 +325,24 @@ export async function assembleOutputs(opts: {
   const [pdfDone, rest, bundle] = await Promise.allSettled([pdfTask, restTask, bundleTask]);
   for (const r of [pdfDone, rest, bundle]) if (r.status === 'rejected') throw r.reason;
   onProgress?.({ phase: 'bundle', done: 1, total: 1 });
-  return (rest as PromiseFulfilledResult<RunReport>).value;
+  return { report: (rest as PromiseFulfilledResult<RunReport>).value, bundleParts: null };
+}
+
+/** CRC-32 of a file, read in pieces (sheets and proofs can be large). */
+async function fileCrc32(file: string): Promise<number> {
+  const fh = await open(file, 'r');
+  try {
+    const buf = Buffer.allocUnsafe(4 * 1024 * 1024);
+    let crc = 0;
+    for (let at = 0; ; ) {
+      const { bytesRead } = await fh.read(buf, 0, buf.length, at);
+      if (bytesRead === 0) return crc;
+      crc = crc32(buf.subarray(0, bytesRead), crc);
+      at += bytesRead;
+    }
+  } finally {
+    await fh.close();
+  }
 }
 
 /**
@@ -319,7 +369,7 @@ async function retireOutput(file: string, reuse: boolean): Promise<{ removed: Pr
 }
 
 // A fixed time stamp for every bundle entry, so the same outputs always make the same zip bytes.
-const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
+export const BUNDLE_MTIME = new Date(Date.UTC(2020, 0, 1));
 
 /**
  * Zips the listed files (paths relative to outDir) into outDir/bundle.zip. `pending` maps a file still

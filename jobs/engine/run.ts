@@ -16,7 +16,7 @@ import { markDuplicates } from './preflight.ts';
 import { limiter, mapLimited } from '../../shared/map-limited.ts';
 import type { RunReport } from './report.ts';
 
-export { assembleOutputs, writeBundle, type Progress, type RenderedCard } from './assemble.ts';
+export { assembleOutputs, BUNDLE_MTIME, writeBundle, type BundlePart, type Progress, type RenderedCard } from './assemble.ts';
 export { mapLimited } from '../../shared/map-limited.ts';
 
 /**
@@ -212,7 +212,7 @@ export async function runEngine(opts: {
       return card;
     });
     const rendered = performance.now();
-    const report = await assembleOutputs({
+    const { report } = await assembleOutputs({
       recipe,
       outDir,
       source: opts.source,

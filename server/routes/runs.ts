@@ -1,4 +1,4 @@
-import { Router, type Response } from 'express';
+import { Router, type Request, type Response } from 'express';
 import {
   cardImageQuerySchema,
   cardListQuerySchema,
@@ -21,12 +21,17 @@ import { createShare, revoke, shareList } from '../services/shares.ts';
 import { parseId } from './recipes.ts';
 import type { Storage } from '../storage.ts';
 import { sendStored } from '../storage-send.ts';
+import { layoutKeyOf, sendComposedZip } from '../composed-zip.ts';
 
 /** Owners and makers write recipes, art sets, runs and share links; helpers read and download. */
 export const WRITERS: readonly Role[] = ['owner', 'maker'];
 
-/** Sends a stored file as a download the browser will not try to render (object storage: 302 to a presigned URL). */
-export function sendAttachment(res: Response, storage: Storage, key: string, name: string): Promise<void> {
+/**
+ * Sends a stored file as a download the browser will not try to render (object storage: 302 to a
+ * presigned URL). A run's bundle is kept as the layout of a composed zip and streamed from its parts.
+ */
+export async function sendAttachment(req: Request, res: Response, storage: Storage, key: string, name: string): Promise<void> {
+  if (name.endsWith('.zip') && (await storage.exists(layoutKeyOf(key)))) return sendComposedZip(req, res, storage, layoutKeyOf(key), name);
   return sendStored(res, storage, key, { filename: name, contentType: downloadType(name), cacheControl: 'private, no-store' });
 }
 
@@ -109,7 +114,7 @@ export function runRoutes(deps: AppDeps): Router {
   router.get('/:runId/files/:name', read, async (req, res) => {
     const file = await runOutputFile({ db, storage }, req.member!.workspaceId, runId(req.params.runId), String(req.params.name));
     if (file.kind === 'pdf') await recordGuideStep(db, req.member!.workspaceId, req.member!.userId, 'pdf');
-    await sendAttachment(res, storage, file.key, file.name);
+    await sendAttachment(req, res, storage, file.key, file.name);
   });
 
   router.get('/:runId/shares', write, async (req, res) => {

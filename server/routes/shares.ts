@@ -14,7 +14,7 @@ export function publicShareRoutes(deps: AppDeps): Router {
   });
   router.get('/:token/files/:name', async (req, res) => {
     const file = await sharedFile({ db: deps.db }, String(req.params.token), String(req.params.name), deps.clock());
-    await sendAttachment(res, deps.runs.storage, file.key, file.name);
+    await sendAttachment(req, res, deps.runs.storage, file.key, file.name);
   });
   return router;
 }

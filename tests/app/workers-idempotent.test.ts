@@ -18,6 +18,12 @@ let api: string;
 useRunsWorkspace((w) => ({ server, fx, api } = w));
 
 const sha = async (file: string) => createHash('sha256').update(await readFile(file)).digest('hex');
+// The bundle as a helper downloads it (composed from stored parts: server/composed-zip.ts).
+const bundleSha = async (runId: string) => {
+  const res = await fetch(`${server.url}${api}/runs/${runId}/files/bundle.zip`, { headers: { Cookie: fx.actors.maker.cookie! } });
+  expect(res.status).toBe(200);
+  return createHash('sha256').update(Buffer.from(await res.arrayBuffer())).digest('hex');
+};
 
 describe('retried jobs', () => {
   it('a second delivery of every job changes no bytes and adds no rows', async () => {
@@ -32,7 +38,8 @@ describe('retried jobs', () => {
     const cards = await db('run_cards').where({ run_id: runId }).orderBy('seq');
     const card = cards[0];
     const renderFile = storage.path(card.info.renderKey);
-    const before = { render: await sha(renderFile), bundle: await sha(storage.path(storageKeys.runFile(fx.workspaceId, runId, 'bundle.zip'))) };
+    const layoutFile = storage.path(`${storageKeys.runFile(fx.workspaceId, runId, 'bundle.zip')}.parts.json`);
+    const before = { render: await sha(renderFile), bundle: await bundleSha(runId), layout: await sha(layoutFile) };
 
     // A settled card: a late delivery of its render job does nothing at all.
     await renderRunCard(runsRuntime(), card.id, false);
@@ -51,7 +58,8 @@ describe('retried jobs', () => {
     await planRun(runsRuntime(), runId);
     await assembleRun(runsRuntime(), runId);
     expect((await db('run_cards').where({ run_id: runId })).length).toBe(3);
-    expect(await sha(storage.path(storageKeys.runFile(fx.workspaceId, runId, 'bundle.zip')))).toBe(before.bundle);
+    expect(await sha(layoutFile)).toBe(before.layout);
+    expect(await bundleSha(runId)).toBe(before.bundle);
     expect((await db('runs').where({ id: runId }).first()).state).toBe('done');
     await assembleRun(runsRuntime(), runId); // a run already done is left alone
     expect((await db('runs').where({ id: runId }).first()).state).toBe('done');

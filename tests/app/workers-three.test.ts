@@ -161,6 +161,14 @@ describe('three workers on object storage', () => {
     expect(thumb.status).toBe(200);
     expect(thumb.headers.get('content-type')).toBe('image/webp');
     expect(Buffer.from(await thumb.arrayBuffer()).subarray(8, 12).toString('latin1')).toBe('WEBP'); // RIFF container, WebP spec
+    // The bundle is composed from the parts in the store and streamed through the app (no presigned
+    // URL can join objects); unzip (Info-ZIP) checks every entry's CRC-32.
+    const bundle = await fetch(`${server.url}${api}/runs/${runId}/files/bundle.zip`, { headers: { Cookie: fx.actors.maker.cookie! }, redirect: 'manual' });
+    expect(bundle.status).toBe(200);
+    const bundleFile = path.join(base, 'bundle.zip');
+    await writeFile(bundleFile, Buffer.from(await bundle.arrayBuffer()));
+    expect(execFileSync('unzip', ['-t', bundleFile], { encoding: 'utf8' })).toMatch(/No errors detected/);
+    expect(execFileSync('unzip', ['-p', bundleFile, pdf], { maxBuffer: 256 * 1024 * 1024 }).equals(await readFile(file))).toBe(true);
     // pdfinfo (poppler-utils) as the outside check of the assembled file.
     expect(Number(/^Pages:\s+(\d+)$/m.exec(execFileSync('pdfinfo', [file], { encoding: 'utf8' }))![1])).toBe(CARDS);
   }, 240_000);
