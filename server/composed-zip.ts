@@ -31,22 +31,10 @@ export function composedZipLayout(parts: ComposedZipLayout['parts'], mtime: Date
 // Stored parts checked at once before a download starts (a HEAD each on object storage).
 const CHECKS_AT_ONCE = 16;
 
-/**
- * Answers a download of a composed zip: 200 with the whole zip, or 206 with one byte range (so a large
- * download can be resumed). Every part is checked first, so a part gone missing gives a clear error
- * (BUNDLE_PART_MISSING) instead of a zip cut short.
- */
+/** Answers a download of a composed zip: 200 with the whole zip, or 206 with one byte range (so a large download can be resumed). */
 export async function sendComposedZip(req: Request, res: Response, storage: Storage, layoutKey: string, filename: string): Promise<void> {
-  const layout = layoutSchema.parse(JSON.parse((await streamToBuffer(await storage.get(layoutKey))).toString('utf8')));
-  const { segments, size } = composeZip(
-    layout.parts.map((p) => ({ ...p, source: p.key })),
-    new Date(layout.mtime),
-  );
-  const sizes = await mapLimited(layout.parts, CHECKS_AT_ONCE, (p) => storage.size(p.key).catch(() => -1));
-  const bad = layout.parts.find((p, i) => sizes[i] !== p.size);
-  if (bad) {
-    throw new AppError(500, 'BUNDLE_PART_MISSING', `"${bad.name}" of this bundle is missing or changed in storage; run the recipe again to make a new bundle.`);
-  }
+  const zip = await openComposedZip(storage, layoutKey);
+  const { size } = zip;
 
   let start = 0;
   let end = size - 1;
@@ -70,7 +58,33 @@ export async function sendComposedZip(req: Request, res: Response, storage: Stor
     res.end();
     return;
   }
-  await pipeline(Readable.from(zipBytes(storage, segments, start, end)), res);
+  try {
+    await pipeline(zip.read(start, end), res);
+  } catch (err) {
+    // The client went away, or a part failed midway: the response is cut off already (short of its
+    // Content-Length, so the client knows), and nothing more can be sent.
+    if (!res.headersSent) throw err;
+    if ((err as NodeJS.ErrnoException).code !== 'ERR_STREAM_PREMATURE_CLOSE') req.log?.warn({ err, layoutKey }, 'bundle download cut short');
+  }
+}
+
+/**
+ * A stored composed zip, ready to read: its size, and its bytes start..end (inclusive) as a stream.
+ * Every part is checked first, so a part gone missing gives a clear error (BUNDLE_PART_MISSING)
+ * instead of a zip cut short.
+ */
+export async function openComposedZip(storage: Storage, layoutKey: string): Promise<{ size: number; read: (start: number, end: number) => Readable }> {
+  const layout = layoutSchema.parse(JSON.parse((await streamToBuffer(await storage.get(layoutKey))).toString('utf8')));
+  const { segments, size } = composeZip(
+    layout.parts.map((p) => ({ ...p, source: p.key })),
+    new Date(layout.mtime),
+  );
+  const sizes = await mapLimited(layout.parts, CHECKS_AT_ONCE, (p) => storage.size(p.key).catch(() => -1));
+  const bad = layout.parts.find((p, i) => sizes[i] !== p.size);
+  if (bad) {
+    throw new AppError(500, 'BUNDLE_PART_MISSING', `"${bad.name}" of this bundle is missing or changed in storage; run the recipe again to make a new bundle.`);
+  }
+  return { size, read: (start, end) => Readable.from(zipBytes(storage, segments, start, end)) };
 }
 
 /** The bytes start..end (inclusive) of a composed zip, read part by part from storage. */
