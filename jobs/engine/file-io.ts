@@ -100,13 +100,17 @@ export class FileSink {
     await this.writev([data]);
   }
 
-  /** Writes the buffers in order with as few system calls as the kernel allows. */
-  async writev(buffers: readonly Buffer[]): Promise<void> {
-    const list = this.staged > 0 ? [Buffer.from(this.stage.subarray(0, this.staged)), ...buffers] : [...buffers];
+  /**
+   * Writes the buffers in order with as few system calls as the kernel allows. `crcs`, when given, holds
+   * the CRC-32 of each buffer already known (or null), for the mirror (see ByteMirror).
+   */
+  async writev(buffers: readonly Buffer[], crcs?: ReadonlyArray<number | null>): Promise<void> {
+    const staged = this.staged > 0;
+    const list = staged ? [Buffer.from(this.stage.subarray(0, this.staged)), ...buffers] : [...buffers];
     this.staged = 0;
     const at = this.position;
     for (const b of list) this.position += b.length;
-    if (this.mirror && list.length) await Promise.all([writevAll(this.fh, list, at), this.mirror.write(list)]);
+    if (this.mirror && list.length) await Promise.all([writevAll(this.fh, list, at), this.mirror.write(list, crcs && staged ? [null, ...crcs] : crcs)]);
     else await writevAll(this.fh, list, at);
   }
 
@@ -160,7 +164,8 @@ export class FileSink {
  * they may be reused once the returned promise settles). One call at a time.
  */
 export interface ByteMirror {
-  write(buffers: readonly Buffer[]): Promise<void>;
+  /** `crcs[i]`, when a number, is the CRC-32 of `buffers[i]` (it must be right): no pass over those bytes is needed. */
+  write(buffers: readonly Buffer[], crcs?: ReadonlyArray<number | null>): Promise<void>;
 }
 
 /** Writes all of `buffers` at `position`: writev may write less than asked, so it goes on from where it stopped. */

@@ -45,8 +45,9 @@ export class PdfStreamWriter {
    * `dataTag`, when given, must identify the chunks' content (e.g. the PNG chunk CRCs): the file /ID is
    * then hashed from it instead of every data byte, which saves a pass over each card image. The
    * chunks are written straight from the caller's Buffers: keep them unchanged until this settles.
+   * `chunkCrcs`, when given, are the chunks' CRC-32s, handed to the mirror (see ByteMirror).
    */
-  async writeStream(num: number, dict: string, chunks: Buffer[], dataTag?: string): Promise<void> {
+  async writeStream(num: number, dict: string, chunks: Buffer[], dataTag?: string, chunkCrcs?: readonly number[]): Promise<void> {
     const length = chunks.reduce((sum, c) => sum + c.length, 0);
     this.markOffset(num);
     const head = this.bytes(`${num} 0 obj\n<< ${dict} /Length ${length} >>\nstream\n`);
@@ -57,7 +58,7 @@ export class PdfStreamWriter {
     this.digest.update(tail);
     this.position += head.length + length + tail.length;
     // The whole object goes out in one writev (a card's IDAT arrives in over a hundred chunks).
-    await this.open().writev([head, ...chunks, tail]);
+    await this.open().writev([head, ...chunks, tail], chunkCrcs ? [null, ...chunkCrcs, null] : undefined);
   }
 
   /** Writes the xref table and trailer, then closes the file. Returns the file size in bytes. */

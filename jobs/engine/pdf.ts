@@ -99,6 +99,7 @@ export async function writeCombinedPdf(opts: {
               `/DecodeParms << /Predictor 15 /Colors 3 /BitsPerComponent 8 /Columns ${png.width} >>`,
             png.idat,
             `png ${png.width}x${png.height} ${png.idatBytes} ${png.idatCrcs.join(',')}`,
+            png.idatDataCrcs,
           );
           slot.busy = Promise.all([writing, placing]);
           slot.busy.catch(() => undefined); // awaited below; a failure must not go unhandled meanwhile

@@ -1,6 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
+import { crc32Combine } from './crc32-combine.ts';
 import type { ReusedReader } from './file-io.ts';
 import { PdfEngineError } from './pdf-errors.ts';
 
@@ -13,6 +14,8 @@ export type PngForPdf = {
   idatBytes: number;
   /** The IDAT chunks' own CRC-32s in order: a cheap fingerprint of the image data. */
   idatCrcs: number[];
+  /** CRC-32 of each IDAT payload alone (the chunk CRC also covers the type): what a zip of the data needs. */
+  idatDataCrcs: number[];
   /** The whole file as read (a view of the reader's buffer when one is used). */
   file: Buffer;
 };
@@ -49,6 +52,7 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
   let sawEnd = false;
   const idat: Buffer[] = [];
   const idatCrcs: number[] = [];
+  const idatDataCrcs: number[] = [];
   let idatBytes = 0;
   while (pos < file.length) {
     if (pos + 12 > file.length) break;
@@ -58,7 +62,10 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
     const dataEnd = dataStart + length;
     if (dataEnd + 4 > file.length) break;
     const storedCrc = file.readUInt32BE(dataEnd);
-    if (crc32(file.subarray(pos + 4, dataEnd)) !== storedCrc) {
+    // The chunk's CRC covers type and data (PNG spec 5.3): checked from the data's own CRC-32, which a
+    // zip holding the PDF then takes as it is instead of hashing the data a second time.
+    const dataCrc = crc32(file.subarray(dataStart, dataEnd));
+    if (crc32Combine(crc32(file.subarray(pos + 4, dataStart)), dataCrc, length) !== storedCrc) {
       throw new PdfEngineError('PDF_IMAGE_CORRUPT', `card image "${name}" is damaged (checksum mismatch in its ${type} chunk); export it again.`);
     }
     const data = file.subarray(dataStart, dataEnd);
@@ -85,6 +92,7 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
     } else if (type === 'IDAT') {
       idat.push(data);
       idatCrcs.push(storedCrc);
+      idatDataCrcs.push(dataCrc);
       idatBytes += length;
     } else if (type === 'IEND') {
       sawEnd = true;
@@ -95,5 +103,5 @@ export function parsePngForPdf(file: Buffer, name: string): PngForPdf {
   if (!sawHeader || !sawEnd || idatBytes === 0) {
     throw new PdfEngineError('PDF_IMAGE_TRUNCATED', `card image "${name}" is cut short (no image data or no end marker); export it again.`);
   }
-  return { width, height, idat, idatBytes, idatCrcs, file };
+  return { width, height, idat, idatBytes, idatCrcs, idatDataCrcs, file };
 }

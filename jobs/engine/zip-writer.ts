@@ -8,6 +8,7 @@
 // file, at an offset worked out in advance, so a large file (the combined PDF) is never read back.
 import { open, readFile, stat, type FileHandle } from 'node:fs/promises';
 import { crc32, deflateRawSync } from 'node:zlib';
+import { crc32Combine } from './crc32-combine.ts';
 import { FileSink, writevAll, type ByteMirror } from './file-io.ts';
 
 export type ZipFileEntry = {
@@ -55,13 +56,11 @@ export class ZipTee implements ByteMirror {
     return this.target !== null && !this.dropped;
   }
 
-  async write(buffers: readonly Buffer[]): Promise<void> {
+  async write(buffers: readonly Buffer[], crcs?: ReadonlyArray<number | null>): Promise<void> {
     if (!(await this.placed) || this.dropped || !this.target) return;
     const at = this.target.at + this.size;
-    for (const b of buffers) {
-      this.crc = crc32(b, this.crc);
-      this.size += b.length;
-    }
+    this.crc = addCrcs(this.crc, buffers, crcs);
+    for (const b of buffers) this.size += b.length;
     await writevAll(this.target.fh, buffers, at);
   }
 }
@@ -71,12 +70,19 @@ export class CrcMirror implements ByteMirror {
   crc = 0;
   size = 0;
 
-  async write(buffers: readonly Buffer[]): Promise<void> {
-    for (const b of buffers) {
-      this.crc = crc32(b, this.crc);
-      this.size += b.length;
-    }
+  async write(buffers: readonly Buffer[], crcs?: ReadonlyArray<number | null>): Promise<void> {
+    this.crc = addCrcs(this.crc, buffers, crcs);
+    for (const b of buffers) this.size += b.length;
   }
+}
+
+/** `crc` carried on over `buffers`, combining the CRC-32s already known instead of reading those bytes. */
+function addCrcs(crc: number, buffers: readonly Buffer[], crcs?: ReadonlyArray<number | null>): number {
+  buffers.forEach((b, i) => {
+    const known = crcs?.[i];
+    crc = typeof known === 'number' ? crc32Combine(crc, known, b.length) : crc32(b, crc);
+  });
+  return crc;
 }
 
 const U32 = 0xffffffff;
