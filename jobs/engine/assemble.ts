@@ -3,6 +3,7 @@
 import { lstat, mkdir, open, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
+import { crc32 } from 'node:zlib';
 import { planDeck, type DeckSlot, type ManifestRow } from '../../shared/deck.ts';
 import { BleedwrightError } from '../../shared/errors.ts';
 import type { Finding } from '../../shared/findings.ts';
@@ -14,7 +15,6 @@ import { linkOrCopy } from './file-io.ts';
 import { writeCombinedPdf, type PdfPage } from './pdf.ts';
 import { markDuplicates } from './preflight.ts';
 import { countFindings, writeReports, type ReportCard, type RunReport } from './report.ts';
-import { crc32 } from 'node:zlib';
 import { CrcMirror, writeZip, ZipPlacer, ZipTee, type ZipPart } from './zip-writer.ts';
 import { mapLimited } from '../../shared/map-limited.ts';
 
@@ -105,6 +105,7 @@ export async function assembleOutputs(opts: {
 }): Promise<{ report: RunReport; bundleParts: BundlePart[] | null }> {
   const { recipe, outDir, cards, onProgress } = opts;
   const geo = recipeGeometry(recipe);
+  const composing = opts.bundle === 'parts' && (!recipe.outputs.singles || recipe.outputs.singles === 'png');
   const bySource = new Map(cards.map((c) => [c.source, c]));
   const usable = (src: string | null) => (src && bySource.get(src)?.pngPath ? src : null);
 
@@ -122,7 +123,7 @@ export async function assembleOutputs(opts: {
   // The last run's PDF and bundle leave their names first: written over by this run's (see retireOutput),
   // or removed while the singles are linked (a rename over a large file whose pages are cached frees
   // them inside the rename, about 0.4 ms a MB, at the very end of a run).
-  const retired = await Promise.all([retireOutput(inside(outDir, 'bundle.zip'), true), retireOutput(inside(outDir, pdfFile), recipe.outputs.pdf && fronts.length > 0)]);
+  const retired = await Promise.all([retireOutput(inside(outDir, 'bundle.zip'), !composing), retireOutput(inside(outDir, pdfFile), recipe.outputs.pdf && fronts.length > 0)]);
   const clearing = Promise.all(retired.map((r) => r.removed));
   clearing.catch(() => undefined);
   const cardsDir = inside(outDir, 'cards');
@@ -177,7 +178,6 @@ export async function assembleOutputs(opts: {
   // bytes go into the bundle as they are written (a ZipTee), so the PDF is never read back.
   // The PDF writer reads every card PNG whole; a PNG single's bundle entry is written from that read
   // (a ZipPlacer) instead of reading the file again.
-  const composing = opts.bundle === 'parts' && (!recipe.outputs.singles || recipe.outputs.singles === 'png');
   const tee = pdfName && !composing ? new ZipTee() : null;
   // A composed bundle needs the PDF's CRC-32: taken as it is written, so the PDF is not read back either.
   const pdfCrc = pdfName && composing ? new CrcMirror() : null;
@@ -296,12 +296,13 @@ export async function assembleOutputs(opts: {
 
   onProgress?.({ phase: 'bundle', done: 0, total: 1 });
   const later = [sheetsName, proofName, 'report.json', 'report.csv'].filter((n): n is string => n !== null);
+  const entries = [...singles, ...(pdfName ? [pdfName] : []), ...later];
   if (composing) {
     const [pdfDone, rest] = await Promise.allSettled([pdfTask, restTask]);
     for (const r of [pdfDone, rest]) if (r.status === 'rejected') throw r.reason;
     const sourceOf = new Map<string, RenderedCard>();
     for (const [source, outs] of outputsBySource) for (const o of outs) sourceOf.set(o, bySource.get(source)!);
-    const bundleParts = await mapLimited([...singles, ...(pdfName ? [pdfName] : []), ...later], LINKS_AT_ONCE, async (name): Promise<BundlePart> => {
+    const bundleParts = await mapLimited(entries, LINKS_AT_ONCE, async (name): Promise<BundlePart> => {
       const card = sourceOf.get(name);
       if (card) return { name, source: card.pngPath!, size: (await stat(card.pngPath!)).size, crc: card.pngCrc32 ?? (await fileCrc32(card.pngPath!)) };
       const file = inside(outDir, name);
@@ -314,7 +315,7 @@ export async function assembleOutputs(opts: {
   }
   const bundleTask = writeBundle(
     outDir,
-    [...singles, ...(pdfName ? [pdfName] : []), ...later],
+    entries,
     Object.fromEntries([...(pdfName ? [[pdfName, pdfTask]] : []), ...later.map((n) => [n, restTask])]),
     tee && pdfName ? { [pdfName]: tee } : {},
     placer,
