@@ -2,6 +2,7 @@
 // read into one reused buffer, and output goes out through positioned writes on a file handle.
 // Fresh Buffers per file (readFile, read streams) cost more than the copying itself: every new
 // megabyte is page-faulted in and handed back, which showed as most of the PDF writer's time at 1,000 cards.
+import { closeSync, openSync, readSync } from 'node:fs';
 import { link, copyFile, open, rename, rm, type FileHandle } from 'node:fs/promises';
 
 const GROW_STEP = 1024 * 1024;
@@ -10,22 +11,27 @@ const INITIAL_BYTES = 2 * GROW_STEP;
 /**
  * Reads whole files into one buffer that is kept and grown as needed. The Buffer a read returns is a
  * view of that shared buffer: it is valid until the next read, so finish with it (await its writes) first.
- * A file is read with as few calls as possible (open, read, close: each one is a trip through libuv's
- * thread pool, and waking a pool thread is what costs on a VM): no size is asked for first, the buffer
- * starts at INITIAL_BYTES (a conformed card is about 1 MB) and a read that does not fill it is the end.
+ *
+ * The read is synchronous, on purpose: it is for files just written and still in the page cache (card
+ * renders), where it is a memory copy. Each call to libuv's thread pool wakes a sleeping thread and then
+ * the event loop, and on the VMs measured here those two wake-ups cost more than copying a 1 MB card:
+ * with open, read and close each through the pool, a rerun's 200-page PDF took ~370 ms (median of 12),
+ * with them here ~210 ms. A file that must come from the disk blocks the event loop for that one read
+ * (a few ms); the writes it feeds stay asynchronous. No size is asked for first: the buffer starts at
+ * INITIAL_BYTES (a conformed card is about 1 MB) and a read that does not fill it is the end.
  */
 export class ReusedReader {
   private buf = Buffer.alloc(0);
 
-  async readWhole(file: string, maxBytes = Infinity): Promise<Buffer> {
-    const fh = await open(file, 'r');
+  readWhole(file: string, maxBytes = Infinity): Buffer {
+    const fd = openSync(file, 'r');
     try {
       if (this.buf.length === 0) this.buf = Buffer.allocUnsafe(INITIAL_BYTES);
       let filled = 0;
       for (;;) {
         if (filled === this.buf.length) this.grow(filled + GROW_STEP, filled);
         const room = this.buf.length - filled;
-        const { bytesRead } = await fh.read(this.buf, filled, room, filled);
+        const bytesRead = readSync(fd, this.buf, filled, room, filled);
         filled += bytesRead;
         if (filled > maxBytes) throw new RangeError(`"${file}" is over the ${maxBytes}-byte limit`);
         // A regular file reads short only at its end.
@@ -33,7 +39,7 @@ export class ReusedReader {
       }
       return this.buf.subarray(0, filled);
     } finally {
-      await fh.close();
+      closeSync(fd);
     }
   }
 
@@ -196,21 +202,38 @@ function skipBytes(list: readonly Buffer[], skip: number): Buffer[] {
 
 /**
  * Puts `source`'s bytes at `target` as a hard link (no data copied), or as a copy where links cannot be
- * made (another file system, or one without links). Temp name, then rename: `target` is never half
- * there. Returns 'link' or 'copy'.
+ * made (another file system, or one without links). `target` is never half there: a link appears whole
+ * in one step, so it is made straight at `target` when nothing is there yet (one call instead of three,
+ * for each of a rerun's hundreds of singles); a file already there, or a copy, goes through a temp
+ * name and a rename. Returns 'link' or 'copy'.
  */
 export async function linkOrCopy(source: string, target: string): Promise<'link' | 'copy'> {
+  let linkable = true;
+  try {
+    await link(source, target);
+    return 'link';
+  } catch (err) {
+    if (cannotLink(err)) linkable = false;
+    else if ((err as NodeJS.ErrnoException).code !== 'EEXIST') throw err;
+  }
   const tmp = `${target}.tmp`;
   await rm(tmp, { force: true });
-  let how: 'link' | 'copy' = 'link';
+  let how: 'link' | 'copy' = 'copy';
   try {
-    await link(source, tmp);
+    if (linkable) {
+      await link(source, tmp);
+      how = 'link';
+    }
   } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    if (code !== 'EXDEV' && code !== 'EPERM' && code !== 'ENOTSUP' && code !== 'EMLINK') throw err;
-    await copyFile(source, tmp);
-    how = 'copy';
+    if (!cannotLink(err)) throw err;
   }
+  if (how === 'copy') await copyFile(source, tmp);
   await rename(tmp, target);
   return how;
+}
+
+/** The file system refuses a hard link here (another file system, or links not supported or too many). */
+function cannotLink(err: unknown): boolean {
+  const code = (err as NodeJS.ErrnoException).code;
+  return code === 'EXDEV' || code === 'EPERM' || code === 'ENOTSUP' || code === 'EMLINK';
 }

@@ -34,7 +34,7 @@ export async function readPngForPdf(pngPath: string, reader?: ReusedReader): Pro
   const name = path.basename(pngPath);
   let file: Buffer;
   try {
-    file = reader ? await reader.readWhole(pngPath) : await readFile(pngPath);
+    file = reader ? reader.readWhole(pngPath) : await readFile(pngPath);
   } catch (err) {
     throw new PdfEngineError('PDF_IMAGE_UNREADABLE', `card image "${name}" could not be read (${(err as Error).message}).`);
   }
